@@ -1,0 +1,78 @@
+package org.cruxset.scoring.config;
+
+import com.fasterxml.jackson.core.JsonLocation;
+import com.fasterxml.jackson.core.JsonProcessingException;
+import com.fasterxml.jackson.databind.DeserializationFeature;
+import com.fasterxml.jackson.databind.JsonMappingException;
+import com.fasterxml.jackson.databind.ObjectMapper;
+import com.fasterxml.jackson.databind.exc.ValueInstantiationException;
+import com.fasterxml.jackson.dataformat.yaml.YAMLFactory;
+import java.io.IOException;
+import java.io.UncheckedIOException;
+import java.nio.file.Files;
+import java.nio.file.Path;
+
+/** Reads YAML settings files into records; errors name the file, the line and column, and the field. */
+public final class YamlConfig {
+    private static final ObjectMapper YAML = new ObjectMapper(new YAMLFactory())
+            .enable(DeserializationFeature.FAIL_ON_UNKNOWN_PROPERTIES)
+            .enable(DeserializationFeature.FAIL_ON_NULL_FOR_PRIMITIVES)
+            .enable(DeserializationFeature.FAIL_ON_MISSING_CREATOR_PROPERTIES);
+
+    private YamlConfig() {
+    }
+
+    /** Bad settings: the message names the file, line, column and field. */
+    public static final class ConfigException extends RuntimeException {
+        private static final long serialVersionUID = 1L;
+
+        public ConfigException(String message, Throwable cause) {
+            super(message, cause);
+        }
+    }
+
+    /** Reads {@code file} as a {@code type}. */
+    public static <T> T read(Path file, Class<T> type) {
+        if (!Files.isRegularFile(file)) {
+            throw new ConfigException(file + ": no such settings file", null);
+        }
+        try {
+            return YAML.readValue(file.toFile(), type);
+        } catch (JsonMappingException e) {
+            StringBuilder sb = new StringBuilder().append(file);
+            JsonLocation loc = e.getLocation();
+            if (loc != null && loc.getLineNr() > 0) {
+                sb.append(':').append(loc.getLineNr()).append(':').append(loc.getColumnNr());
+            }
+            String path = fieldPath(e);
+            if (!path.isEmpty()) {
+                sb.append(": field '").append(path).append("'");
+            }
+            Throwable root = e instanceof ValueInstantiationException && e.getCause() != null ? e.getCause() : e;
+            String msg = root == e ? e.getOriginalMessage() : root.getMessage();
+            sb.append(": ").append(msg);
+            throw new ConfigException(sb.toString(), e);
+        } catch (JsonProcessingException e) {
+            JsonLocation loc = e.getLocation();
+            String where = loc == null ? "" : ":" + loc.getLineNr() + ":" + loc.getColumnNr();
+            throw new ConfigException(file + where + ": not valid YAML: " + e.getOriginalMessage(), e);
+        } catch (IOException e) {
+            throw new UncheckedIOException(file + ": cannot read: " + e.getMessage(), e);
+        }
+    }
+
+    private static String fieldPath(JsonMappingException e) {
+        StringBuilder sb = new StringBuilder();
+        for (JsonMappingException.Reference r : e.getPath()) {
+            if (r.getFieldName() != null) {
+                if (sb.length() > 0) {
+                    sb.append('.');
+                }
+                sb.append(r.getFieldName());
+            } else if (r.getIndex() >= 0) {
+                sb.append('[').append(r.getIndex()).append(']');
+            }
+        }
+        return sb.toString();
+    }
+}

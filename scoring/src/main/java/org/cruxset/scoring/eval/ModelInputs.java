@@ -1,0 +1,127 @@
+package org.cruxset.scoring.eval;
+
+import java.util.ArrayList;
+import java.util.HashMap;
+import java.util.List;
+import java.util.Map;
+import org.cruxset.scoring.cohort.Atlas;
+import org.cruxset.scoring.cohort.Sample;
+import org.cruxset.scoring.decoder.InputBatch;
+import org.cruxset.scoring.decoder.ModelCard;
+
+/**
+ * Samples mapped into a decoder's input space: regions reordered to the model's order (when the model names its
+ * regions), the model's preprocessing applied, labels turned into the model's class indices.
+ */
+public record ModelInputs(InputBatch batch, int[] labels, List<String> sampleIds, List<String> subjects,
+                          List<String> classLabels, int[] regionOfInput) {
+    public ModelInputs {
+        labels = labels.clone();
+        sampleIds = List.copyOf(sampleIds);
+        subjects = List.copyOf(subjects);
+        classLabels = List.copyOf(classLabels);
+        regionOfInput = regionOfInput.clone();
+    }
+
+    @Override
+    public int[] labels() {
+        return labels.clone();
+    }
+
+    /** Class index of sample {@code s}. */
+    public int label(int s) {
+        return labels[s];
+    }
+
+    /**
+     * Maps {@code samples} (in {@code atlas} order) for a decoder described by {@code card}. Fails, naming the
+     * region or label, when the atlas lacks a region the model needs or a sample's label is not one of the model's.
+     */
+    public static ModelInputs prepare(ModelCard card, Atlas atlas, List<Sample> samples) {
+        int n = card.regions();
+        int[] atlasPos = new int[n];
+        if (card.regionNames().isEmpty()) {
+            if (atlas.size() != n) {
+                throw new IllegalArgumentException("the model takes " + n + " regions but the atlas has " + atlas.size()
+                        + " (the model names no regions, so its inputs must be the atlas regions in index order)");
+            }
+            for (int i = 0; i < n; i++) {
+                atlasPos[i] = i;
+            }
+        } else {
+            List<String> missing = new ArrayList<>();
+            for (int i = 0; i < n; i++) {
+                String name = card.regionNames().get(i);
+                Integer p = atlas.position(name).orElse(null);
+                if (p == null) {
+                    missing.add(name);
+                } else {
+                    atlasPos[i] = p;
+                }
+            }
+            if (!missing.isEmpty()) {
+                throw new IllegalArgumentException("the atlas lacks " + missing.size() + " region(s) the model takes: "
+                        + missing.subList(0, Math.min(10, missing.size())) + (missing.size() > 10 ? " and more" : ""));
+            }
+        }
+        Map<String, Integer> classIndex = new HashMap<>();
+        for (int k = 0; k < card.classes(); k++) {
+            classIndex.put(card.classLabels().get(k), k);
+        }
+        boolean identity = atlas.size() == n;
+        for (int i = 0; identity && i < n; i++) {
+            identity = atlasPos[i] == i;
+        }
+        float[][] series = new float[samples.size()][];
+        int[] lengths = new int[samples.size()];
+        int[] labels = new int[samples.size()];
+        List<String> ids = new ArrayList<>();
+        List<String> subjects = new ArrayList<>();
+        for (int s = 0; s < samples.size(); s++) {
+            Sample x = samples.get(s);
+            Integer k = classIndex.get(x.label());
+            if (k == null) {
+                throw new IllegalArgumentException("sample " + x.id() + " has label '" + x.label()
+                        + "', which is not one of the model's classes " + card.classLabels());
+            }
+            labels[s] = k;
+            Sample ordered = identity ? x : reorder(x, atlasPos);
+            series[s] = card.preprocessing().apply(ordered).values();
+            lengths[s] = x.length();
+            ids.add(x.id());
+            subjects.add(x.subject());
+        }
+        return new ModelInputs(InputBatch.of(n, series, lengths), labels, ids, subjects, card.classLabels(), atlasPos);
+    }
+
+    private static Sample reorder(Sample x, int[] atlasPos) {
+        int n = atlasPos.length;
+        int an = x.regions();
+        float[] v = x.values();
+        float[] out = new float[x.length() * n];
+        for (int t = 0; t < x.length(); t++) {
+            for (int i = 0; i < n; i++) {
+                out[t * n + i] = v[t * an + atlasPos[i]];
+            }
+        }
+        return new Sample(x.id(), x.subject(), x.label(), x.split(), x.length(), n, out);
+    }
+
+    /** Number of samples. */
+    public int size() {
+        return labels.length;
+    }
+
+    /** The majority-class rate of these samples: the chance level of accuracy. */
+    public double chance() {
+        int[] counts = new int[classLabels.size()];
+        for (int l : labels) {
+            counts[l]++;
+        }
+        int max = 0;
+        for (int c : counts) {
+            max = Math.max(max, c);
+        }
+        return labels.length == 0 ? 0 : (double) max / labels.length;
+    }
+}
