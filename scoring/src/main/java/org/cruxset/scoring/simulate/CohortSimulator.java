@@ -12,19 +12,22 @@ import org.cruxset.scoring.cohort.Split;
 
 /**
  * Generates a synthetic cohort with planted ground truth. Each class (in the bundled configs, a route walked in
- * imagination through an invented town) has a fixed time course: a seeded train of events convolved with the
- * canonical haemodynamic response and standardised. Per sample (stimulus onset at t = 0, length drawn uniformly
- * from the configured range, onset jitter of 0–1 time points):
+ * imagination through an invented town) evokes a sustained response whose strength is class-specific: a step at
+ * stimulus onset convolved with the canonical haemodynamic response, scaled by the class's level (levels evenly
+ * spaced in [-1, 1], seeded order; a second, independent ordering for the pair). Per sample (onset at t = 0,
+ * length drawn uniformly from the configured range, onset jitter of 0–1 time points):
  * <ul>
  * <li><b>redundant group</b>: each member carries a copy of the class time course with amplitude {@code signal},
  * a subject-specific log-normal gain and a member-specific lag of 0–1 time points, so any one member suffices to
  * decode and only lesioning all of them removes this information;</li>
  * <li><b>synergistic pair</b>: a shared masking series {@code m(t)} of amplitude {@code masker} plus a second class
  * time course {@code c(t)} with opposite signs, {@code m + pair·c/2} and {@code m − pair·c/2}: the class is read
- * from their difference, each alone carries little, so lesioning either member removes it;</li>
+ * from their difference, each alone carries little (the masker has a random per-sample offset as well as smoothed
+ * fluctuations), so lesioning either member removes it;</li>
  * <li><b>decoys</b>: haemodynamically smoothed noise of amplitude {@code decoy} with no class information;</li>
  * <li><b>background</b> for every region: its network's smoothed latent series scaled by a loading in
- * [0.3, 0.8]·{@code networkShare}, plus unit-variance AR(1) noise.</li>
+ * [0.3, 0.8]·{@code networkShare}, plus unit-variance AR(1) noise, plus a subject-specific baseline with sd
+ * {@code subjectVariability}.</li>
  * </ul>
  * Subjects are assigned to splits (never one subject in two) by the configured fractions. Same config, same cohort.
  */
@@ -98,11 +101,16 @@ public final class CohortSimulator {
         double[] hrf = Haemodynamics.kernel(config.samplingInterval());
         int maxT = config.time().max() + 2;
         int classes = config.classes().size();
-        double[][] classCourse = new double[classes][];
-        double[][] pairCourse = new double[classes][];
+        double[] sustained = sustainedCourse(maxT, hrf);
+        double[] levels = levels(classes, templateRng);
+        double[] pairLevels = levels(classes, templateRng);
+        double[][] classCourse = new double[classes][maxT];
+        double[][] pairCourse = new double[classes][maxT];
         for (int c = 0; c < classes; c++) {
-            classCourse[c] = eventCourse(templateRng, maxT, hrf);
-            pairCourse[c] = eventCourse(templateRng, maxT, hrf);
+            for (int t = 0; t < maxT; t++) {
+                classCourse[c][t] = levels[c] * sustained[t];
+                pairCourse[c][t] = pairLevels[c] * sustained[t];
+            }
         }
 
         List<String> subjects = new ArrayList<>();
@@ -111,17 +119,23 @@ public final class CohortSimulator {
         }
         Split[] splitOf = assignSplits(subjects.size(), subjectRng);
         double[][] gain = new double[subjects.size()][n];
+        double[][] baseline = new double[subjects.size()][n];
         for (int s = 0; s < subjects.size(); s++) {
             for (int r = 0; r < n; r++) {
                 gain[s][r] = Math.exp(config.noise().subjectVariability() * subjectRng.nextGaussian());
+                baseline[s][r] = config.noise().subjectVariability() * subjectRng.nextGaussian();
             }
         }
 
         List<Sample> samples = new ArrayList<>();
         double phi = config.noise().autocorrelation();
         double innov = Math.sqrt(1 - phi * phi);
-        double[] snrAcc = new double[3];
-        int snrCount = 0;
+        // pooled over all samples and time points: [planted, rest] for redundant, pair and decoy regions
+        Moments[][] moments = new Moments[3][2];
+        for (Moments[] m : moments) {
+            m[0] = new Moments();
+            m[1] = new Moments();
+        }
         for (int s = 0; s < subjects.size(); s++) {
             for (int rep = 0; rep < config.repetitions(); rep++) {
                 for (int c = 0; c < classes; c++) {
@@ -133,26 +147,22 @@ public final class CohortSimulator {
                         netLatent[q] = smoothNoise(rng, len, hrf);
                     }
                     double[] masker = smoothNoise(rng, len, hrf);
+                    double maskerOffset = rng.nextGaussian();
+                    for (int t = 0; t < len; t++) {
+                        masker[t] += maskerOffset;
+                    }
                     double[][] decoyNoise = new double[n][];
                     for (int r : decoys) {
                         decoyNoise[r] = smoothNoise(rng, len, hrf);
                     }
                     float[] values = new float[len * n];
-                    double[] planted0 = new double[len];
-                    double[] rest0 = new double[len];
-                    double sigVar = 0;
-                    double restVar = 0;
-                    double pairVar = 0;
-                    double pairRestVar = 0;
-                    double decoyVar = 0;
-                    double decoyRestVar = 0;
                     for (int r = 0; r < n; r++) {
                         double ar = rng.nextGaussian();
                         for (int t = 0; t < len; t++) {
                             if (t > 0) {
                                 ar = phi * ar + innov * rng.nextGaussian();
                             }
-                            double background = loading[r] * netLatent[networkOf[r]][t] + ar;
+                            double background = baseline[s][r] + loading[r] * netLatent[networkOf[r]][t] + ar;
                             double plantedPart = switch (role[r]) {
                                 case 1 -> planted.signal() * gain[s][r] * classCourse[c][t + jitter + lag[r]];
                                 case 2 -> planted.masker() * masker[t] + 0.5 * planted.pair() * gain[s][r] * pairCourse[c][t + jitter];
@@ -161,36 +171,26 @@ public final class CohortSimulator {
                                 default -> 0.0;
                             };
                             values[t * n + r] = (float) (background + plantedPart);
-                            planted0[t] = plantedPart;
-                            rest0[t] = background;
-                        }
-                        if (role[r] == 1) {
-                            sigVar += variance(planted0, len);
-                            restVar += variance(rest0, len);
-                        } else if (role[r] == 2) {
-                            double[] c0 = new double[len];
-                            for (int t = 0; t < len; t++) {
-                                c0[t] = 0.5 * planted.pair() * gain[s][r] * pairCourse[c][t + jitter];
-                                rest0[t] += planted.masker() * masker[t];
+                            if (role[r] == 1 || role[r] == 4) {
+                                Moments[] m = moments[role[r] == 1 ? 0 : 2];
+                                m[0].add(plantedPart);
+                                m[1].add(background);
+                            } else if (role[r] == 2 || role[r] == 3) {
+                                double masking = planted.masker() * masker[t];
+                                moments[1][0].add(plantedPart - masking);
+                                moments[1][1].add(background + masking);
                             }
-                            pairVar += variance(c0, len);
-                            pairRestVar += variance(rest0, len);
-                        } else if (role[r] == 4) {
-                            decoyVar += variance(planted0, len);
-                            decoyRestVar += variance(rest0, len);
                         }
                     }
-                    snrAcc[0] += sigVar / restVar;
-                    snrAcc[1] += pairVar / pairRestVar;
-                    snrAcc[2] += decoyVar / decoyRestVar;
-                    snrCount++;
                     String id = String.format("%s_rep%d_%s", subjects.get(s), rep + 1, config.classes().get(c));
                     samples.add(new Sample(id, subjects.get(s), config.classes().get(c), splitOf[s], len, n, values));
                 }
             }
         }
         PlantedDesign design = new PlantedDesign(names(atlas, redundant), names(atlas, pair), names(atlas, decoys),
-                snrAcc[0] / snrCount, snrAcc[1] / snrCount, snrAcc[2] / snrCount);
+                moments[0][0].variance() / moments[0][1].variance(),
+                moments[1][0].variance() / moments[1][1].variance(),
+                moments[2][0].variance() / moments[2][1].variance());
         return new Result(new Cohort(atlas, samples), design);
     }
 
@@ -216,15 +216,33 @@ public final class CohortSimulator {
         return out;
     }
 
-    private static double[] eventCourse(SplittableRandom rng, int len, double[] hrf) {
-        double[] events = new double[len + hrf.length];
-        for (int t = 0; t < events.length; t++) {
-            events[t] = rng.nextDouble() < 0.3 ? 1.0 : 0.0;
+    /** The response to a stimulus switched on at t = 0 and held: the step convolved with the response, peak 1. */
+    private static double[] sustainedCourse(int len, double[] hrf) {
+        double[] step = new double[len];
+        java.util.Arrays.fill(step, 1.0);
+        double[] y = Haemodynamics.convolve(step, hrf);
+        double max = 0;
+        for (double v : y) {
+            max = Math.max(max, Math.abs(v));
         }
-        double[] full = Haemodynamics.convolve(events, hrf);
-        double[] out = new double[len];
-        System.arraycopy(full, hrf.length, out, 0, len);
-        return Haemodynamics.standardise(out);
+        for (int t = 0; t < len; t++) {
+            y[t] /= max;
+        }
+        return y;
+    }
+
+    /** Class levels evenly spaced in [-1, 1], assigned to classes in a seeded random order. */
+    private static double[] levels(int classes, SplittableRandom rng) {
+        List<Double> l = new ArrayList<>();
+        for (int c = 0; c < classes; c++) {
+            l.add(-1.0 + 2.0 * c / (classes - 1));
+        }
+        shuffle(l, rng);
+        double[] out = new double[classes];
+        for (int c = 0; c < classes; c++) {
+            out[c] = l.get(c);
+        }
+        return out;
     }
 
     private static double[] smoothNoise(SplittableRandom rng, int len, double[] hrf) {
@@ -238,17 +256,22 @@ public final class CohortSimulator {
         return Haemodynamics.standardise(out);
     }
 
-    private static double variance(double[] x, int len) {
-        double m = 0;
-        for (int i = 0; i < len; i++) {
-            m += x[i];
+    /** Running mean and variance (Welford). */
+    private static final class Moments {
+        private long n;
+        private double mean;
+        private double m2;
+
+        void add(double x) {
+            n++;
+            double d = x - mean;
+            mean += d / n;
+            m2 += d * (x - mean);
         }
-        m /= len;
-        double ss = 0;
-        for (int i = 0; i < len; i++) {
-            ss += (x[i] - m) * (x[i] - m);
+
+        double variance() {
+            return n > 1 ? m2 / n : 0;
         }
-        return ss / len;
     }
 
     private static List<String> names(Atlas atlas, int[] positions) {

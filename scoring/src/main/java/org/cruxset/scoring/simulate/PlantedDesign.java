@@ -5,7 +5,8 @@ import java.util.List;
 
 /**
  * Where a simulation planted its structure (region names), the signal-to-noise ratios it realised (variance of
- * the planted component over variance of the rest of the region's series, averaged over samples), and the
+ * the planted component over variance of the rest of the region's series, pooled over samples and time points;
+ * for the pair, of one member's class component over its background plus masker), and the
  * designed minimal critical sets: the whole redundant group plus one member of the synergistic pair.
  */
 public record PlantedDesign(List<String> redundant, List<String> pair, List<String> decoys,

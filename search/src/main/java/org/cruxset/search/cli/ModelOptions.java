@@ -1,0 +1,59 @@
+package org.cruxset.search.cli;
+
+import java.nio.file.Path;
+import org.cruxset.scoring.decoder.Decoder;
+import org.cruxset.scoring.decoder.Preprocessing;
+import org.cruxset.scoring.internal.Parallel;
+import org.cruxset.scoring.onnx.OnnxModels;
+import org.cruxset.scoring.onnx.OnnxOptions;
+import picocli.CommandLine.Option;
+
+/** Options shared by commands that load a decoder. */
+public final class ModelOptions {
+    @Option(names = "--model", required = true, paramLabel = "FILE", description = "Trained decoder in ONNX format.")
+    Path model;
+
+    @Option(names = "--classes", paramLabel = "FILE",
+            description = "Class labels in the model's output order, one per line (for models that do not state them).")
+    Path classes;
+
+    @Option(names = "--engine", paramLabel = "ENGINE", defaultValue = "auto",
+            description = "auto (Cruxset's own engine for canonical GRU models, else ONNX Runtime), native or onnxruntime. Default: ${DEFAULT-VALUE}.")
+    String engine;
+
+    @Option(names = "--layout", paramLabel = "LAYOUT", defaultValue = "auto",
+            description = "Input layout of a model from elsewhere: auto, batch-first or time-first. Default: ${DEFAULT-VALUE}.")
+    String layout;
+
+    @Option(names = "--preprocessing", paramLabel = "P",
+            description = "Override the model's recorded preprocessing: none or zscore.")
+    String preprocessing;
+
+    @Option(names = "--threads", paramLabel = "N", description = "Worker threads (default: all cores).")
+    Integer threads;
+
+    int threads() {
+        return threads == null ? Parallel.defaultThreads() : threads;
+    }
+
+    /** Opens the decoder. */
+    Decoder open() {
+        OnnxOptions.Engine e = switch (engine.toLowerCase(java.util.Locale.ROOT)) {
+            case "auto" -> OnnxOptions.Engine.AUTO;
+            case "native" -> OnnxOptions.Engine.NATIVE;
+            case "onnxruntime" -> OnnxOptions.Engine.ONNXRUNTIME;
+            default -> throw new IllegalArgumentException("--engine must be auto, native or onnxruntime, found '" + engine + "'");
+        };
+        OnnxOptions.Layout l = switch (layout.toLowerCase(java.util.Locale.ROOT)) {
+            case "auto" -> OnnxOptions.Layout.AUTO;
+            case "batch-first" -> OnnxOptions.Layout.BATCH_FIRST;
+            case "time-first" -> OnnxOptions.Layout.TIME_FIRST;
+            default -> throw new IllegalArgumentException("--layout must be auto, batch-first or time-first, found '" + layout + "'");
+        };
+        Preprocessing p = preprocessing == null ? null : Preprocessing.parse(preprocessing);
+        if (threads != null && threads < 1) {
+            throw new IllegalArgumentException("--threads must be at least 1, found " + threads);
+        }
+        return OnnxModels.load(model, new OnnxOptions(e, l, classes, p, threads()));
+    }
+}

@@ -1,0 +1,58 @@
+package org.cruxset.search.cli;
+
+import java.io.PrintWriter;
+import java.util.Map;
+import java.util.TreeMap;
+import org.cruxset.scoring.cohort.Cohort;
+import org.cruxset.scoring.cohort.Sample;
+import org.cruxset.scoring.cohort.Split;
+import org.cruxset.scoring.decoder.ModelCard;
+import org.cruxset.scoring.eval.QuickScore;
+
+/** Plain-text summaries printed by several commands. */
+final class Reports {
+    static final String CAUTION = "Caution: a virtual lesion of a decoder describes the decoder, not causal brain function. "
+            + "Results are not for clinical decisions.";
+
+    private Reports() {
+    }
+
+    static void cohort(PrintWriter pw, Cohort c) {
+        int minT = Integer.MAX_VALUE;
+        int maxT = 0;
+        Map<String, Integer> perClass = new TreeMap<>();
+        Map<Split, Integer> perSplit = new TreeMap<>();
+        for (Sample s : c.samples()) {
+            minT = Math.min(minT, s.length());
+            maxT = Math.max(maxT, s.length());
+            perClass.merge(s.label(), 1, Integer::sum);
+            perSplit.merge(s.split(), 1, Integer::sum);
+        }
+        pw.printf("Cohort: %d samples from %d subjects; %d-%d time points per sample%n", c.samples().size(),
+                c.subjects().size(), minT, maxT);
+        pw.printf("  classes (%d): %s%n", perClass.size(), perClass);
+        pw.printf("  splits: %s%n", perSplit);
+        pw.printf("Atlas: %d regions in %d networks: %s%n", c.atlas().size(), c.atlas().networks().size(),
+                networkSizes(c));
+    }
+
+    private static String networkSizes(Cohort c) {
+        StringBuilder sb = new StringBuilder();
+        c.atlas().networks().forEach((k, v) -> sb.append(sb.length() == 0 ? "" : ", ").append(k).append(" (").append(v.size()).append(')'));
+        return sb.toString();
+    }
+
+    static void model(PrintWriter pw, ModelCard card) {
+        pw.printf("Model: %d input regions%s, %d classes %s, preprocessing %s%n", card.regions(),
+                card.regionNames().isEmpty() ? " (unnamed: atlas index order)" : " (named)", card.classes(),
+                card.classLabels(), card.preprocessing().label());
+        pw.printf("  engine: %s (%s)%n", card.engine(), card.engineReason());
+        pw.printf("  sha256: %s%n", card.modelHash());
+    }
+
+    static void score(PrintWriter pw, String what, QuickScore q) {
+        pw.printf("%s: accuracy %.3f (95%% Wilson %.3f-%.3f), %d of %d correct; chance %.3f (majority class); "
+                        + "one-sided exact binomial p = %.3g%n",
+                what, q.accuracy(), q.wilsonLow(), q.wilsonHigh(), q.correct(), q.n(), q.chance(), q.pValue());
+    }
+}

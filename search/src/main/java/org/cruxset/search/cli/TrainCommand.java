@@ -1,0 +1,110 @@
+package org.cruxset.search.cli;
+
+import java.io.PrintWriter;
+import java.nio.file.Path;
+import java.util.concurrent.Callable;
+import org.cruxset.scoring.cohort.Cohort;
+import org.cruxset.scoring.cohort.CohortFiles;
+import org.cruxset.scoring.decoder.Preprocessing;
+import org.cruxset.scoring.eval.QuickScore;
+import org.cruxset.scoring.internal.Parallel;
+import org.cruxset.scoring.simulate.DecoderTruth;
+import org.cruxset.scoring.simulate.TruthFile;
+import org.cruxset.scoring.train.TrainingConfig;
+import org.cruxset.scoring.train.TrainingRun;
+import picocli.CommandLine.Command;
+import picocli.CommandLine.Model.CommandSpec;
+import picocli.CommandLine.Option;
+import picocli.CommandLine.Spec;
+
+/** {@code cruxset train}: trains Cruxset's GRU decoder and saves it as ONNX. */
+@Command(name = "train", mixinStandardHelpOptions = true,
+        description = {"Train a GRU decoder on a cohort (splits by subject) and save it as a standard ONNX model.",
+            "Where the cohort has a truth.json, the decoder's own truth (exhaustive lesions of the planted pool) is added to it."})
+public final class TrainCommand implements Callable<Integer> {
+    @Spec
+    CommandSpec spec;
+
+    @Option(names = "--cohort", required = true, paramLabel = "DIR", description = "Cohort folder (regions.tsv, samples.tsv, ...).")
+    Path cohort;
+
+    @Option(names = "--atlas", paramLabel = "TSV", description = "Atlas file, when not regions.tsv beside the manifest.")
+    Path atlas;
+
+    @Option(names = "--out", required = true, paramLabel = "FILE", description = "Where to write the ONNX model.")
+    Path out;
+
+    @Option(names = "--seed", required = true, paramLabel = "N", description = "Seed of initialisation, shuffling and any split.")
+    long seed;
+
+    @Option(names = "--hidden", defaultValue = "32", description = "GRU hidden size. Default: ${DEFAULT-VALUE}.")
+    int hidden;
+
+    @Option(names = "--layers", defaultValue = "1", description = "Stacked GRU layers. Default: ${DEFAULT-VALUE}.")
+    int layers;
+
+    @Option(names = "--epochs", defaultValue = "60", description = "Most epochs. Default: ${DEFAULT-VALUE}.")
+    int epochs;
+
+    @Option(names = "--batch", defaultValue = "32", description = "Mini-batch size. Default: ${DEFAULT-VALUE}.")
+    int batch;
+
+    @Option(names = "--learning-rate", defaultValue = "0.005", description = "Adam step size. Default: ${DEFAULT-VALUE}.")
+    double learningRate;
+
+    @Option(names = "--weight-decay", defaultValue = "1e-4", description = "Decoupled weight decay. Default: ${DEFAULT-VALUE}.")
+    double weightDecay;
+
+    @Option(names = "--clip", defaultValue = "5.0", description = "Global gradient-norm clip. Default: ${DEFAULT-VALUE}.")
+    double clip;
+
+    @Option(names = "--patience", defaultValue = "8", description = "Epochs without a lower validation loss before stopping. Default: ${DEFAULT-VALUE}.")
+    int patience;
+
+    @Option(names = "--preprocessing", defaultValue = "none", paramLabel = "P",
+            description = "none or zscore (per sample and region; recorded in the model). Default: ${DEFAULT-VALUE}.")
+    String preprocessing;
+
+    @Option(names = "--alpha", defaultValue = "0.05", description = "Level of the collapse test used for the decoder's own truth. Default: ${DEFAULT-VALUE}.")
+    double alpha;
+
+    @Option(names = "--threads", paramLabel = "N", description = "Worker threads (default: all cores).")
+    Integer threads;
+
+    @Override
+    public Integer call() {
+        Cohort c = atlas == null ? CohortFiles.read(cohort) : CohortFiles.read(atlas, manifest());
+        int t = threads == null ? Parallel.defaultThreads() : threads;
+        TrainingConfig cfg = new TrainingConfig(hidden, layers, epochs, batch, learningRate, weightDecay, clip, patience, seed, t);
+        PrintWriter pw = spec.commandLine().getOut();
+        Path truth = cohortFolder().resolve(TruthFile.NAME);
+        ProgressBar bar = new ProgressBar(spec.commandLine().getErr(), "training");
+        TrainingRun.Summary s = TrainingRun.run(c, Preprocessing.parse(preprocessing), cfg, out, truth, alpha,
+                (e, max, improved) -> bar.update(e.epoch(), max, String.format("train loss %.3f, validation loss %.3f, accuracy %.3f%s",
+                        e.trainLoss(), e.validationLoss(), e.validationAccuracy(), improved ? " *" : "")));
+        bar.done();
+        pw.printf("Trained on %d samples (validation %d); best epoch %d of %d run.%n", s.trainSamples(),
+                s.validationSamples(), s.training().bestEpoch(), s.training().epochs().size());
+        pw.printf("Saved %s (sha256 %s)%n", s.model(), s.modelHash());
+        QuickScore q = s.test();
+        pw.printf("Test accuracy %.3f (95%% Wilson %.3f-%.3f, n = %d); chance %.3f (majority class); p = %.3g%n",
+                q.accuracy(), q.wilsonLow(), q.wilsonHigh(), q.n(), q.chance(), q.pValue());
+        DecoderTruth tr = s.truth();
+        if (tr != null) {
+            pw.printf("Decoder's own truth (%d lesioned subsets of the planted pool): minimum critical sets %s%n",
+                    tr.sets().size(), tr.minimumCriticalSets());
+            pw.printf("Written to %s%n", truth);
+        }
+        return 0;
+    }
+
+    private Path manifest() {
+        return cohort.toString().endsWith(".tsv") ? cohort : cohort.resolve(CohortFiles.SAMPLES_FILE);
+    }
+
+    private Path cohortFolder() {
+        Path m = manifest().toAbsolutePath().getParent();
+        return m == null ? Path.of(".") : m;
+    }
+
+}
