@@ -1,0 +1,204 @@
+package org.cruxset.scoring.onnx;
+
+import ai.onnx.proto.OnnxMl.AttributeProto;
+import ai.onnx.proto.OnnxMl.GraphProto;
+import ai.onnx.proto.OnnxMl.ModelProto;
+import ai.onnx.proto.OnnxMl.NodeProto;
+import ai.onnx.proto.OnnxMl.OperatorSetIdProto;
+import ai.onnx.proto.OnnxMl.StringStringEntryProto;
+import ai.onnx.proto.OnnxMl.TensorProto;
+import ai.onnx.proto.OnnxMl.TensorShapeProto;
+import ai.onnx.proto.OnnxMl.TypeProto;
+import ai.onnx.proto.OnnxMl.ValueInfoProto;
+import com.google.protobuf.ByteString;
+import java.nio.ByteBuffer;
+import java.nio.ByteOrder;
+import java.util.LinkedHashMap;
+import java.util.List;
+import java.util.Map;
+import java.util.Objects;
+import java.util.Set;
+import org.cruxset.scoring.decoder.Preprocessing;
+import org.cruxset.scoring.gru.GruLayer;
+import org.cruxset.scoring.gru.GruNetwork;
+
+/** Writes a {@link GruNetwork} as a standard ONNX model (IR 8, opset 13) that any ONNX runtime can run. */
+public final class OnnxGruWriter {
+    /** Metadata key of the class labels in output order, joined by newlines. */
+    public static final String CLASSES_KEY = "cruxset.classes";
+    /** Metadata key of the region names in input order, joined by newlines. */
+    public static final String REGIONS_KEY = "cruxset.regions";
+    /** Metadata key of the preprocessing label ({@link Preprocessing#label()}). */
+    public static final String PREPROCESSING_KEY = "cruxset.preprocessing";
+    /** Metadata key of the Cruxset model format. */
+    public static final String FORMAT_KEY = "cruxset.format";
+    /** The format this writer produces. */
+    public static final String FORMAT = "gru/1";
+
+    static final long IR_VERSION = 8;
+    static final long OPSET = 13;
+    private static final Set<String> RESERVED = Set.of(CLASSES_KEY, REGIONS_KEY, PREPROCESSING_KEY, FORMAT_KEY);
+
+    private OnnxGruWriter() {
+    }
+
+    /**
+     * The serialized model: inputs {@code input} float [batch, time, regions] and {@code lengths} int32 [batch],
+     * outputs {@code scores} and {@code probabilities} float [batch, classes]; {@code regionNames} may be empty.
+     */
+    public static byte[] write(GruNetwork net, List<String> regionNames, List<String> classLabels, Preprocessing pre,
+                               Map<String, String> extraMetadata) {
+        return model(net, regionNames, classLabels, pre, extraMetadata).toByteArray();
+    }
+
+    /** The model as a protobuf message (see {@link #write}). */
+    public static ModelProto model(GruNetwork net, List<String> regionNames, List<String> classLabels, Preprocessing pre,
+                                   Map<String, String> extraMetadata) {
+        Objects.requireNonNull(net, "net");
+        Objects.requireNonNull(pre, "pre");
+        Objects.requireNonNull(extraMetadata, "extraMetadata");
+        if (classLabels.size() != net.classes()) {
+            throw new IllegalArgumentException(classLabels.size() + " class labels given for a network of "
+                    + net.classes() + " classes");
+        }
+        if (!regionNames.isEmpty() && regionNames.size() != net.inputs()) {
+            throw new IllegalArgumentException(regionNames.size() + " region names given for a network of "
+                    + net.inputs() + " inputs");
+        }
+        requireSingleLines("class label", classLabels);
+        requireSingleLines("region name", regionNames);
+
+        int n = net.inputs();
+        int k = net.classes();
+        GraphProto.Builder g = GraphProto.newBuilder().setName("cruxset_gru");
+        g.addInput(valueInfo("input", TensorProto.DataType.FLOAT, "batch", "time", n));
+        g.addInput(valueInfo("lengths", TensorProto.DataType.INT32, "batch"));
+        g.addOutput(valueInfo("scores", TensorProto.DataType.FLOAT, "batch", k));
+        g.addOutput(valueInfo("probabilities", TensorProto.DataType.FLOAT, "batch", k));
+        g.addInitializer(int64Tensor("axes_0", 0));
+        if (net.layers().size() > 1) {
+            g.addInitializer(int64Tensor("axes_1", 1));
+        }
+
+        g.addNode(node("Transpose", "to_time_major", List.of("input"), List.of("input_tm"))
+                .addAttribute(ints("perm", new long[] {1, 0, 2})));
+        String x = "input_tm";
+        List<GruLayer> layers = net.layers();
+        for (int i = 0; i < layers.size(); i++) {
+            GruLayer l = layers.get(i);
+            int h = l.hidden();
+            String p = "gru" + i;
+            g.addInitializer(floatTensor(p + "_W", l.w(), 1, 3L * h, l.input()));
+            g.addInitializer(floatTensor(p + "_R", l.r(), 1, 3L * h, h));
+            float[] b = new float[6 * h];
+            System.arraycopy(l.wb(), 0, b, 0, 3 * h);
+            System.arraycopy(l.rb(), 0, b, 3 * h, 3 * h);
+            g.addInitializer(floatTensor(p + "_B", b, 1, 6L * h));
+            boolean last = i == layers.size() - 1;
+            String y = last ? "" : p + "_Y";
+            String yh = last ? p + "_Y_h" : "";
+            g.addNode(node("GRU", p, List.of(x, p + "_W", p + "_R", p + "_B", "lengths"), List.of(y, yh))
+                    .addAttribute(integer("hidden_size", h))
+                    .addAttribute(integer("linear_before_reset", l.linearBeforeReset() ? 1 : 0))
+                    .addAttribute(AttributeProto.newBuilder().setName("direction")
+                            .setType(AttributeProto.AttributeType.STRING)
+                            .setS(ByteString.copyFromUtf8("forward"))));
+            if (last) {
+                g.addNode(node("Squeeze", p + "_drop_direction", List.of(yh, "axes_0"), List.of("last_state")));
+            } else {
+                g.addNode(node("Squeeze", p + "_drop_direction", List.of(y, "axes_1"), List.of(p + "_out")));
+                x = p + "_out";
+            }
+        }
+        g.addInitializer(floatTensor("readout_weight", net.readout(), k, net.lastHidden()));
+        g.addInitializer(floatTensor("readout_bias", net.bias(), k));
+        g.addNode(node("Gemm", "readout", List.of("last_state", "readout_weight", "readout_bias"), List.of("scores"))
+                .addAttribute(integer("transB", 1)));
+        g.addNode(node("Softmax", "class_probabilities", List.of("scores"), List.of("probabilities"))
+                .addAttribute(integer("axis", 1)));
+
+        ModelProto.Builder m = ModelProto.newBuilder()
+                .setIrVersion(IR_VERSION)
+                .setProducerName("cruxset")
+                .addOpsetImport(OperatorSetIdProto.newBuilder().setDomain("").setVersion(OPSET))
+                .setGraph(g);
+        Map<String, String> meta = new LinkedHashMap<>();
+        meta.put(CLASSES_KEY, String.join("\n", classLabels));
+        if (!regionNames.isEmpty()) {
+            meta.put(REGIONS_KEY, String.join("\n", regionNames));
+        }
+        meta.put(PREPROCESSING_KEY, pre.label());
+        meta.put(FORMAT_KEY, FORMAT);
+        for (Map.Entry<String, String> e : extraMetadata.entrySet()) {
+            if (RESERVED.contains(e.getKey())) {
+                throw new IllegalArgumentException("extra metadata may not set the reserved key '" + e.getKey() + "'");
+            }
+            meta.put(e.getKey(), e.getValue());
+        }
+        meta.forEach((key, value) -> m.addMetadataProps(StringStringEntryProto.newBuilder().setKey(key).setValue(value)));
+        return m.build();
+    }
+
+    private static void requireSingleLines(String what, List<String> values) {
+        for (String v : values) {
+            if (v.isEmpty() || v.indexOf('\n') >= 0 || v.indexOf('\r') >= 0) {
+                throw new IllegalArgumentException(what + " must be a non-empty single line, found '" + v + "'");
+            }
+        }
+    }
+
+    private static NodeProto.Builder node(String op, String name, List<String> inputs, List<String> outputs) {
+        return NodeProto.newBuilder().setOpType(op).setName(name).addAllInput(inputs).addAllOutput(outputs);
+    }
+
+    private static AttributeProto integer(String name, long v) {
+        return AttributeProto.newBuilder().setName(name).setType(AttributeProto.AttributeType.INT).setI(v).build();
+    }
+
+    private static AttributeProto ints(String name, long[] v) {
+        AttributeProto.Builder a = AttributeProto.newBuilder().setName(name).setType(AttributeProto.AttributeType.INTS);
+        for (long x : v) {
+            a.addInts(x);
+        }
+        return a.build();
+    }
+
+    private static ValueInfoProto valueInfo(String name, TensorProto.DataType type, Object... dims) {
+        TensorShapeProto.Builder shape = TensorShapeProto.newBuilder();
+        for (Object d : dims) {
+            TensorShapeProto.Dimension.Builder dim = TensorShapeProto.Dimension.newBuilder();
+            if (d instanceof String s) {
+                dim.setDimParam(s);
+            } else {
+                dim.setDimValue(((Number) d).longValue());
+            }
+            shape.addDim(dim);
+        }
+        return ValueInfoProto.newBuilder().setName(name)
+                .setType(TypeProto.newBuilder().setTensorType(TypeProto.Tensor.newBuilder()
+                        .setElemType(type.getNumber()).setShape(shape)))
+                .build();
+    }
+
+    static TensorProto floatTensor(String name, float[] values, long... dims) {
+        ByteBuffer buf = ByteBuffer.allocate(4 * values.length).order(ByteOrder.LITTLE_ENDIAN);
+        buf.asFloatBuffer().put(values);
+        TensorProto.Builder t = TensorProto.newBuilder().setName(name)
+                .setDataType(TensorProto.DataType.FLOAT.getNumber())
+                .setRawData(ByteString.copyFrom(buf.array()));
+        for (long d : dims) {
+            t.addDims(d);
+        }
+        return t.build();
+    }
+
+    static TensorProto int64Tensor(String name, long... values) {
+        TensorProto.Builder t = TensorProto.newBuilder().setName(name)
+                .setDataType(TensorProto.DataType.INT64.getNumber())
+                .addDims(values.length);
+        for (long v : values) {
+            t.addInt64Data(v);
+        }
+        return t.build();
+    }
+}

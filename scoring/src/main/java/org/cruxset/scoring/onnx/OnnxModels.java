@@ -1,0 +1,196 @@
+package org.cruxset.scoring.onnx;
+
+import ai.onnx.proto.OnnxMl.ModelProto;
+import java.io.IOException;
+import java.nio.charset.StandardCharsets;
+import java.nio.file.Files;
+import java.nio.file.Path;
+import java.security.MessageDigest;
+import java.security.NoSuchAlgorithmException;
+import java.util.ArrayList;
+import java.util.HexFormat;
+import java.util.List;
+import java.util.Map;
+import java.util.Objects;
+import org.cruxset.scoring.decoder.Decoder;
+import org.cruxset.scoring.decoder.ModelCard;
+import org.cruxset.scoring.decoder.Preprocessing;
+import org.cruxset.scoring.gru.GruNetwork;
+import org.cruxset.scoring.gru.NativeGruDecoder;
+import org.cruxset.scoring.onnx.OnnxGruReader.Analysis;
+import org.cruxset.scoring.onnx.OnnxGruReader.Canonical;
+import org.cruxset.scoring.onnx.OnnxGruReader.Refused;
+import org.cruxset.scoring.onnx.OnnxGruReader.Signature;
+import org.cruxset.scoring.onnx.OnnxOptions.Engine;
+import org.cruxset.scoring.onnx.OnnxOptions.Layout;
+
+/** Opens ONNX decoder models: Cruxset's own engine for canonical GRU models, ONNX Runtime for any other. */
+public final class OnnxModels {
+    /** Engine name on the model card of models run by {@link NativeGruDecoder}. */
+    public static final String NATIVE = "native";
+    /** Engine name on the model card of models run by {@link OnnxRuntimeDecoder}. */
+    public static final String ONNXRUNTIME = "onnxruntime";
+
+    private OnnxModels() {
+    }
+
+    /** Loads the model file as a decoder; unreadable, inconsistent or unsupported models raise IllegalArgumentException naming the file. */
+    public static Decoder load(Path model, OnnxOptions options) {
+        Objects.requireNonNull(model, "model");
+        Objects.requireNonNull(options, "options");
+        byte[] bytes;
+        try {
+            bytes = Files.readAllBytes(model);
+        } catch (IOException e) {
+            throw new IllegalArgumentException("cannot read model " + model + ": " + e, e);
+        }
+        ModelProto proto;
+        Signature sig;
+        try {
+            proto = OnnxGruReader.parse(bytes);
+            sig = OnnxGruReader.signature(proto);
+        } catch (IllegalArgumentException e) {
+            throw new IllegalArgumentException("model " + model + ": " + e.getMessage(), e);
+        }
+        Analysis analysis = OnnxGruReader.analyse(proto);
+        Canonical canonical = analysis instanceof Canonical c ? c : null;
+        String refusal = analysis instanceof Refused r ? r.reason() : null;
+        Map<String, String> meta = sig.metadata();
+
+        List<String> labels = classLabels(model, options.classesFile(), meta);
+        int width = canonical != null ? canonical.network().classes() : sig.classes();
+        if (width > 0 && width != labels.size()) {
+            throw new IllegalArgumentException("model " + model + " gives " + width + " class scores but "
+                    + labels.size() + " class labels were given" + (options.classesFile() != null
+                    ? " in " + options.classesFile() : " in its metadata " + OnnxGruWriter.CLASSES_KEY));
+        }
+        Preprocessing pre;
+        if (options.preprocessing() != null) {
+            pre = options.preprocessing();
+        } else if (meta.containsKey(OnnxGruWriter.PREPROCESSING_KEY)) {
+            try {
+                pre = Preprocessing.parse(meta.get(OnnxGruWriter.PREPROCESSING_KEY));
+            } catch (IllegalArgumentException e) {
+                throw new IllegalArgumentException("model " + model + " metadata " + OnnxGruWriter.PREPROCESSING_KEY
+                        + ": " + e.getMessage(), e);
+            }
+        } else {
+            pre = Preprocessing.NONE;
+        }
+        List<String> regionNames = meta.containsKey(OnnxGruWriter.REGIONS_KEY)
+                ? lines(meta.get(OnnxGruWriter.REGIONS_KEY)) : List.of();
+        int regions = canonical != null ? canonical.network().inputs()
+                : sig.regions() > 0 ? sig.regions() : regionNames.size();
+        if (regions < 1) {
+            throw new IllegalArgumentException("model " + model + " does not fix the region count of input '"
+                    + sig.input() + "' and names no regions in " + OnnxGruWriter.REGIONS_KEY);
+        }
+        if (!regionNames.isEmpty() && regionNames.size() != regions) {
+            throw new IllegalArgumentException("model " + model + " names " + regionNames.size() + " regions in "
+                    + OnnxGruWriter.REGIONS_KEY + " but takes " + regions + " inputs");
+        }
+        String hash = sha256(bytes);
+
+        boolean runNative = switch (options.engine()) {
+            case AUTO -> canonical != null;
+            case NATIVE -> {
+                if (canonical == null) {
+                    throw new IllegalArgumentException("model " + model + " is not in canonical GRU form, so the native "
+                            + "engine cannot run it: " + refusal + " (use engine auto or onnxruntime)");
+                }
+                yield true;
+            }
+            case ONNXRUNTIME -> false;
+        };
+        Layout layout = layout(model, sig, canonical, options.layout());
+        if (runNative) {
+            GruNetwork net = canonical.network();
+            ModelCard card = card(model, regions, regionNames, labels, pre, NATIVE, canonical.description(), hash, meta);
+            return new NativeGruDecoder(net, card);
+        }
+        String reason;
+        if (options.engine() == Engine.ONNXRUNTIME) {
+            reason = "engine onnxruntime requested" + (canonical != null ? " (" + canonical.description() + ")"
+                    : "; not in canonical GRU form: " + refusal);
+        } else {
+            reason = "not in canonical GRU form: " + refusal;
+        }
+        ModelCard card = card(model, regions, regionNames, labels, pre, ONNXRUNTIME, reason, hash, meta);
+        OnnxGruReader.Output kind = canonical != null ? canonical.output() : sig.outputKind();
+        try {
+            return new OnnxRuntimeDecoder(bytes, card, layout, kind, sig.output(), options.threads());
+        } catch (IllegalArgumentException e) {
+            throw new IllegalArgumentException("model " + model + ": " + e.getMessage(), e);
+        }
+    }
+
+    private static ModelCard card(Path model, int regions, List<String> regionNames, List<String> labels,
+                                  Preprocessing pre, String engine, String reason, String hash, Map<String, String> meta) {
+        try {
+            return new ModelCard(regions, regionNames, labels, pre, engine, reason, hash, meta);
+        } catch (IllegalArgumentException e) {
+            throw new IllegalArgumentException("model " + model + ": " + e.getMessage(), e);
+        }
+    }
+
+    private static Layout layout(Path model, Signature sig, Canonical canonical, Layout option) {
+        Layout graph = canonical != null ? canonical.layout() : sig.layout();
+        if (graph != Layout.AUTO) {
+            if (option != Layout.AUTO && option != graph) {
+                throw new IllegalArgumentException("model " + model + " reads input '" + sig.input() + "' as "
+                        + graph.label() + " (" + (canonical != null ? canonical.description() : sig.layoutEvidence())
+                        + ") but layout " + option.label() + " was given");
+            }
+            return graph;
+        }
+        if (option != Layout.AUTO) {
+            return option;
+        }
+        if (sig.layoutHint() != Layout.AUTO) {
+            return sig.layoutHint();
+        }
+        throw new IllegalArgumentException("model " + model + ": " + sig.layoutEvidence()
+                + ": pass --layout batch-first or --layout time-first");
+    }
+
+    private static List<String> classLabels(Path model, Path classesFile, Map<String, String> meta) {
+        if (classesFile != null) {
+            try {
+                List<String> labels = lines(Files.readString(classesFile, StandardCharsets.UTF_8));
+                if (labels.isEmpty()) {
+                    throw new IllegalArgumentException("classes file " + classesFile + " holds no labels");
+                }
+                return labels;
+            } catch (IOException e) {
+                throw new IllegalArgumentException("cannot read classes file " + classesFile + ": " + e, e);
+            }
+        }
+        String stated = meta.get(OnnxGruWriter.CLASSES_KEY);
+        if (stated == null || lines(stated).isEmpty()) {
+            throw new IllegalArgumentException("model " + model
+                    + " states no class order: pass --classes FILE (one label per line in output order)");
+        }
+        return lines(stated);
+    }
+
+    /** Non-blank lines, trimmed. */
+    private static List<String> lines(String text) {
+        List<String> out = new ArrayList<>();
+        for (String line : text.split("\\R")) {
+            String t = line.strip();
+            if (!t.isEmpty()) {
+                out.add(t);
+            }
+        }
+        return out;
+    }
+
+    /** SHA-256 of the bytes as lower-case hex. */
+    static String sha256(byte[] bytes) {
+        try {
+            return HexFormat.of().formatHex(MessageDigest.getInstance("SHA-256").digest(bytes));
+        } catch (NoSuchAlgorithmException e) {
+            throw new IllegalStateException(e);
+        }
+    }
+}

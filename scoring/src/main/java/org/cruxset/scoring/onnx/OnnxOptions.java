@@ -1,0 +1,75 @@
+package org.cruxset.scoring.onnx;
+
+import java.nio.file.Path;
+import java.util.Objects;
+import org.cruxset.scoring.decoder.Preprocessing;
+import org.cruxset.scoring.internal.Parallel;
+
+/**
+ * How {@link OnnxModels#load} opens a model: which engine, the input layout when the graph does not show it, a class
+ * order file (nullable), a preprocessing override (nullable) and the ONNX Runtime intra-op thread count.
+ */
+public record OnnxOptions(Engine engine, Layout layout, Path classesFile, Preprocessing preprocessing, int threads) {
+    public OnnxOptions {
+        Objects.requireNonNull(engine, "engine");
+        Objects.requireNonNull(layout, "layout");
+        if (threads < 1) {
+            throw new IllegalArgumentException("threads must be at least 1, found " + threads);
+        }
+    }
+
+    /** Which engine runs a model. */
+    public enum Engine {
+        /** Cruxset's own engine for models in canonical GRU form, ONNX Runtime for the others. */
+        AUTO,
+        /** Cruxset's own engine; models not in canonical GRU form are refused. */
+        NATIVE,
+        /** ONNX Runtime for every model. */
+        ONNXRUNTIME
+    }
+
+    /** How the model's float input orders its axes. */
+    public enum Layout {
+        /** Read from the graph (a Transpose perm [1,0,2] before the GRU means batch-first). */
+        AUTO,
+        /** [batch, time, regions]. */
+        BATCH_FIRST,
+        /** [time, batch, regions]. */
+        TIME_FIRST;
+
+        /** The option spelling: {@code batch-first} or {@code time-first} ({@code auto} for AUTO). */
+        public String label() {
+            return name().toLowerCase(java.util.Locale.ROOT).replace('_', '-');
+        }
+    }
+
+    /** Engine AUTO, layout AUTO, no classes file, preprocessing from the model, all cores. */
+    public static OnnxOptions defaults() {
+        return new OnnxOptions(Engine.AUTO, Layout.AUTO, null, null, Parallel.defaultThreads());
+    }
+
+    /** The same options with another engine. */
+    public OnnxOptions withEngine(Engine e) {
+        return new OnnxOptions(e, layout, classesFile, preprocessing, threads);
+    }
+
+    /** The same options with another layout. */
+    public OnnxOptions withLayout(Layout l) {
+        return new OnnxOptions(engine, l, classesFile, preprocessing, threads);
+    }
+
+    /** The same options with a class order file (nullable). */
+    public OnnxOptions withClassesFile(Path file) {
+        return new OnnxOptions(engine, layout, file, preprocessing, threads);
+    }
+
+    /** The same options with a preprocessing override (nullable). */
+    public OnnxOptions withPreprocessing(Preprocessing p) {
+        return new OnnxOptions(engine, layout, classesFile, p, threads);
+    }
+
+    /** The same options with another thread count. */
+    public OnnxOptions withThreads(int n) {
+        return new OnnxOptions(engine, layout, classesFile, preprocessing, n);
+    }
+}
