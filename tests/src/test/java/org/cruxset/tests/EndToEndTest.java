@@ -1,0 +1,118 @@
+package org.cruxset.tests;
+
+import static org.junit.jupiter.api.Assertions.assertEquals;
+import static org.junit.jupiter.api.Assertions.assertFalse;
+import static org.junit.jupiter.api.Assertions.assertTrue;
+
+import java.nio.file.Path;
+import java.util.ArrayList;
+import java.util.List;
+import org.cruxset.scoring.cohort.Cohort;
+import org.cruxset.scoring.cohort.CohortFiles;
+import org.cruxset.scoring.decoder.Decoder;
+import org.cruxset.scoring.decoder.InputMask;
+import org.cruxset.scoring.eval.HeldOut;
+import org.cruxset.scoring.eval.ModelInputs;
+import org.cruxset.scoring.eval.QuickScore;
+import org.cruxset.scoring.lesion.RegionSet;
+import org.cruxset.scoring.onnx.OnnxModels;
+import org.cruxset.scoring.onnx.OnnxOptions;
+import org.cruxset.scoring.simulate.TruthFile;
+import org.junit.jupiter.api.BeforeAll;
+import org.junit.jupiter.api.Test;
+import org.junit.jupiter.api.TestInstance;
+import org.junit.jupiter.api.io.TempDir;
+
+/** Simulate the CI-sized cohort, train a decoder on it and check lesions against the decoder's own truth. */
+@TestInstance(TestInstance.Lifecycle.PER_CLASS)
+class EndToEndTest {
+    private static final double ALPHA = 0.05;
+
+    @TempDir
+    Path dir;
+
+    Path cohortDir;
+    Path model;
+    Cli.Run train;
+
+    @BeforeAll
+    void simulateAndTrain() {
+        cohortDir = dir.resolve("cohort");
+        model = dir.resolve("model.onnx");
+        Cli.run("simulate", "--config", Cli.root().resolve("configs/ci.yaml").toString(), "--out", cohortDir.toString())
+                .requireSuccess();
+        train = Cli.run("train", "--cohort", cohortDir.toString(), "--out", model.toString(), "--seed", "7",
+                "--hidden", "24", "--threads", "2").requireSuccess();
+    }
+
+    private record Scored(ModelInputs inputs, List<QuickScore> scores) {
+    }
+
+    private Scored score(List<List<String>> sets, OnnxOptions.Engine engine) {
+        Cohort c = CohortFiles.read(cohortDir);
+        try (Decoder d = OnnxModels.load(model, OnnxOptions.defaults().withEngine(engine))) {
+            ModelInputs in = ModelInputs.prepare(d.card(), c.atlas(), HeldOut.of(c, d.card()).samples());
+            List<InputMask> masks = new ArrayList<>();
+            for (List<String> s : sets) {
+                int[] pos = s.stream().mapToInt(name -> d.card().regionNames().indexOf(name)).toArray();
+                masks.add(InputMask.zero(RegionSet.of(d.card().regions(), pos)));
+            }
+            float[][][] probs = d.bind(in.batch()).probabilities(masks, 2);
+            List<QuickScore> out = new ArrayList<>();
+            for (float[][] p : probs) {
+                out.add(QuickScore.of(QuickScore.countCorrect(p, in), in.size(), in.chance()));
+            }
+            return new Scored(in, out);
+        }
+    }
+
+    @Test
+    void trainedDecoderIsWellAboveChanceOnUnseenSubjects() {
+        Scored s = score(List.of(List.of()), OnnxOptions.Engine.AUTO);
+        QuickScore intact = s.scores().get(0);
+        assertTrue(intact.n() >= 200, "the CI cohort must give at least 200 test samples, found " + intact.n());
+        assertEquals(1.0 / 6, intact.chance(), 1e-12, "balanced classes: chance is 1/K");
+        assertTrue(intact.accuracy() >= 3 * intact.chance(),
+                "held-out accuracy " + intact.accuracy() + " should be at least 3x chance " + intact.chance());
+        assertTrue(train.out().contains("Test accuracy"), train.out());
+    }
+
+    // Source: the one-sided exact binomial test against the majority-class rate (common practice for decoding).
+    @Test
+    void lesioningAMinimalCriticalSetCollapsesDecodingWhileAsManyDecoysDoNot() {
+        Path truth = cohortDir.resolve(TruthFile.NAME);
+        List<List<String>> minimal = TruthFile.decoderMinimumSets(truth);
+        assertFalse(minimal.isEmpty(), "training must add the decoder's own minimal critical sets to truth.json");
+        List<String> set = minimal.get(0);
+        List<String> decoys = TruthFile.decoys(truth);
+        assertTrue(decoys.size() >= set.size(), "the power control needs as many decoys as the critical set has regions");
+        List<String> control = decoys.subList(0, set.size());
+        Scored s = score(List.of(set, control), OnnxOptions.Engine.AUTO);
+        QuickScore lesioned = s.scores().get(0);
+        QuickScore decoyLesion = s.scores().get(1);
+        assertTrue(lesioned.accuracy() <= lesioned.chance() + 0.05,
+                "lesioning " + set + " leaves accuracy " + lesioned.accuracy() + ", above chance + 0.05");
+        assertTrue(lesioned.pValue() >= ALPHA, "lesioning " + set + " should not be significantly above chance, p = " + lesioned.pValue());
+        assertTrue(decoyLesion.pValue() < ALPHA,
+                "lesioning decoys " + control + " should keep decoding above chance, p = " + decoyLesion.pValue());
+        // the same through ONNX Runtime: the saved model is what was evaluated
+        Scored ort = score(List.of(set, control), OnnxOptions.Engine.ONNXRUNTIME);
+        assertEquals(lesioned.correct(), ort.scores().get(0).correct());
+        assertEquals(decoyLesion.correct(), ort.scores().get(1).correct());
+    }
+
+    @Test
+    void infoReportsTheEngineAndHeldOutAccuracy() {
+        Cli.Run info = Cli.run("info", "--model", model.toString(), "--cohort", cohortDir.toString()).requireSuccess();
+        assertTrue(info.out().contains("engine: native (canonical GRU form"), info.out());
+        assertTrue(info.out().contains("Held-out test split"), info.out());
+        assertTrue(info.out().contains("95% Wilson"), info.out());
+    }
+
+    @Test
+    void badCohortPathIsAClearErrorWithItsOwnExitCode() {
+        Cli.Run r = Cli.run("info", "--model", model.toString(), "--cohort", dir.resolve("nowhere").toString());
+        assertEquals(2, r.exit(), r.err());
+        assertTrue(r.err().contains("nowhere"), r.err());
+    }
+}
