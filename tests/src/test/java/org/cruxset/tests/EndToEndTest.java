@@ -20,23 +20,21 @@ import org.cruxset.scoring.onnx.OnnxOptions;
 import org.cruxset.scoring.simulate.TruthFile;
 import org.junit.jupiter.api.BeforeAll;
 import org.junit.jupiter.api.Test;
-import org.junit.jupiter.api.TestInstance;
 import org.junit.jupiter.api.io.TempDir;
 
 /** Simulate the CI-sized cohort, train a decoder on it and check lesions against the decoder's own truth. */
-@TestInstance(TestInstance.Lifecycle.PER_CLASS)
 class EndToEndTest {
     private static final double ALPHA = 0.05;
 
     @TempDir
-    Path dir;
+    static Path dir;
 
-    Path cohortDir;
-    Path model;
-    Cli.Run train;
+    static Path cohortDir;
+    static Path model;
+    static Cli.Run train;
 
     @BeforeAll
-    void simulateAndTrain() {
+    static void simulateAndTrain() {
         cohortDir = dir.resolve("cohort");
         model = dir.resolve("model.onnx");
         Cli.run("simulate", "--config", Cli.root().resolve("configs/ci.yaml").toString(), "--out", cohortDir.toString())
@@ -48,7 +46,7 @@ class EndToEndTest {
     private record Scored(ModelInputs inputs, List<QuickScore> scores) {
     }
 
-    private Scored score(List<List<String>> sets, OnnxOptions.Engine engine) {
+    private static Scored score(List<List<String>> sets, OnnxOptions.Engine engine) {
         Cohort c = CohortFiles.read(cohortDir);
         try (Decoder d = OnnxModels.load(model, OnnxOptions.defaults().withEngine(engine))) {
             ModelInputs in = ModelInputs.prepare(d.card(), c.atlas(), HeldOut.of(c, d.card()).samples());
