@@ -35,7 +35,7 @@ public final class DemoCommand implements Callable<Integer> {
             description = "Folder of the bundled demo (cohort/ and model.onnx). Default: ${DEFAULT-VALUE}.")
     Path demo;
 
-    @Option(names = "--alpha", defaultValue = "0.05", description = "Level of the collapse test. Default: ${DEFAULT-VALUE}.")
+    @Option(names = "--alpha", paramLabel = "A", defaultValue = "0.05", description = "Level of the collapse test. Default: ${DEFAULT-VALUE}.")
     double alpha;
 
     @Option(names = "--threads", paramLabel = "N", description = "Worker threads (default: all cores).")

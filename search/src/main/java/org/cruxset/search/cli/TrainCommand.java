@@ -37,35 +37,35 @@ public final class TrainCommand implements Callable<Integer> {
     @Option(names = "--seed", required = true, paramLabel = "N", description = "Seed of initialisation, shuffling and any split.")
     long seed;
 
-    @Option(names = "--hidden", defaultValue = "32", description = "GRU hidden size. Default: ${DEFAULT-VALUE}.")
+    @Option(names = "--hidden", paramLabel = "N", defaultValue = "32", description = "GRU hidden size. Default: ${DEFAULT-VALUE}.")
     int hidden;
 
-    @Option(names = "--layers", defaultValue = "1", description = "Stacked GRU layers. Default: ${DEFAULT-VALUE}.")
+    @Option(names = "--layers", paramLabel = "N", defaultValue = "1", description = "Stacked GRU layers. Default: ${DEFAULT-VALUE}.")
     int layers;
 
-    @Option(names = "--epochs", defaultValue = "60", description = "Most epochs. Default: ${DEFAULT-VALUE}.")
+    @Option(names = "--epochs", paramLabel = "N", defaultValue = "60", description = "Most epochs. Default: ${DEFAULT-VALUE}.")
     int epochs;
 
-    @Option(names = "--batch", defaultValue = "32", description = "Mini-batch size. Default: ${DEFAULT-VALUE}.")
+    @Option(names = "--batch", paramLabel = "N", defaultValue = "32", description = "Mini-batch size. Default: ${DEFAULT-VALUE}.")
     int batch;
 
-    @Option(names = "--learning-rate", defaultValue = "0.005", description = "Adam step size. Default: ${DEFAULT-VALUE}.")
+    @Option(names = "--learning-rate", paramLabel = "RATE", defaultValue = "0.005", description = "Adam step size. Default: ${DEFAULT-VALUE}.")
     double learningRate;
 
-    @Option(names = "--weight-decay", defaultValue = "1e-4", description = "Decoupled weight decay. Default: ${DEFAULT-VALUE}.")
+    @Option(names = "--weight-decay", paramLabel = "W", defaultValue = "1e-4", description = "Decoupled weight decay. Default: ${DEFAULT-VALUE}.")
     double weightDecay;
 
-    @Option(names = "--clip", defaultValue = "5.0", description = "Global gradient-norm clip. Default: ${DEFAULT-VALUE}.")
+    @Option(names = "--clip", paramLabel = "NORM", defaultValue = "5.0", description = "Global gradient-norm clip. Default: ${DEFAULT-VALUE}.")
     double clip;
 
-    @Option(names = "--patience", defaultValue = "8", description = "Epochs without a lower validation loss before stopping. Default: ${DEFAULT-VALUE}.")
+    @Option(names = "--patience", paramLabel = "N", defaultValue = "8", description = "Epochs without a lower validation loss before stopping. Default: ${DEFAULT-VALUE}.")
     int patience;
 
     @Option(names = "--preprocessing", defaultValue = "none", paramLabel = "P",
             description = "none or zscore (per sample and region; recorded in the model). Default: ${DEFAULT-VALUE}.")
     String preprocessing;
 
-    @Option(names = "--alpha", defaultValue = "0.05", description = "Level of the collapse test used for the decoder's own truth. Default: ${DEFAULT-VALUE}.")
+    @Option(names = "--alpha", paramLabel = "A", defaultValue = "0.05", description = "Level of the collapse test used for the decoder's own truth. Default: ${DEFAULT-VALUE}.")
     double alpha;
 
     @Option(names = "--threads", paramLabel = "N", description = "Worker threads (default: all cores).")
