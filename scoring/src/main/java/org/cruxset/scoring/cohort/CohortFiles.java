@@ -1,5 +1,7 @@
 package org.cruxset.scoring.cohort;
 
+import org.cruxset.scoring.Names;
+
 import java.io.BufferedWriter;
 import java.io.IOException;
 import java.io.OutputStreamWriter;
@@ -390,40 +392,7 @@ public final class CohortFiles {
 
     /** Up to three atlas names closest to {@code name} by case-insensitive Levenshtein distance. */
     static String nearest(Atlas atlas, String name) {
-        List<String> names = atlas.names();
-        int[] distance = new int[names.size()];
-        Integer[] order = new Integer[names.size()];
-        String lower = name.toLowerCase(Locale.ROOT);
-        for (int i = 0; i < names.size(); i++) {
-            distance[i] = levenshtein(lower, names.get(i).toLowerCase(Locale.ROOT));
-            order[i] = i;
-        }
-        Arrays.sort(order, (a, b) -> distance[a] != distance[b] ? Integer.compare(distance[a], distance[b])
-                : names.get(a).compareTo(names.get(b)));
-        StringBuilder sb = new StringBuilder();
-        for (int i = 0; i < Math.min(MAX_SUGGESTIONS, order.length); i++) {
-            sb.append(i > 0 ? ", " : "").append('\'').append(names.get(order[i])).append('\'');
-        }
-        return sb.toString();
-    }
-
-    static int levenshtein(String a, String b) {
-        int[] prev = new int[b.length() + 1];
-        int[] cur = new int[b.length() + 1];
-        for (int j = 0; j <= b.length(); j++) {
-            prev[j] = j;
-        }
-        for (int i = 1; i <= a.length(); i++) {
-            cur[0] = i;
-            for (int j = 1; j <= b.length(); j++) {
-                int sub = prev[j - 1] + (a.charAt(i - 1) == b.charAt(j - 1) ? 0 : 1);
-                cur[j] = Math.min(sub, Math.min(prev[j] + 1, cur[j - 1] + 1));
-            }
-            int[] tmp = prev;
-            prev = cur;
-            cur = tmp;
-        }
-        return prev[b.length()];
+        return Names.quoted(Names.nearest(atlas.names(), name, MAX_SUGGESTIONS));
     }
 
     private static String listSome(List<String> names) {

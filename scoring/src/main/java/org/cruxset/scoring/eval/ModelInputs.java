@@ -107,6 +107,28 @@ public record ModelInputs(InputBatch batch, int[] labels, List<String> sampleIds
         return new Sample(x.id(), x.subject(), x.label(), x.split(), x.length(), n, out);
     }
 
+    /**
+     * The model-input set of an atlas-position set; fails, naming the region, when the model does not take one of
+     * its regions.
+     */
+    public org.cruxset.scoring.lesion.RegionSet toInputs(org.cruxset.scoring.lesion.RegionSet atlasSet,
+                                                        org.cruxset.scoring.cohort.Atlas atlas) {
+        int[] inputOf = new int[atlas.size()];
+        java.util.Arrays.fill(inputOf, -1);
+        for (int i = 0; i < regionOfInput.length; i++) {
+            inputOf[regionOfInput[i]] = i;
+        }
+        int[] atlasPos = atlasSet.positions();
+        int[] in = new int[atlasPos.length];
+        for (int k = 0; k < atlasPos.length; k++) {
+            in[k] = inputOf[atlasPos[k]];
+            if (in[k] < 0) {
+                throw new IllegalArgumentException("region '" + atlas.region(atlasPos[k]).name() + "' is not an input of the model");
+            }
+        }
+        return org.cruxset.scoring.lesion.RegionSet.of(regionOfInput.length, in);
+    }
+
     /** Number of samples. */
     public int size() {
         return labels.length;

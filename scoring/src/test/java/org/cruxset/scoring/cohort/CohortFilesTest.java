@@ -206,7 +206,7 @@ class CohortFilesTest {
     @Test
     void nearestNamesUseLevenshteinDistance() {
         Atlas atlas = CohortFiles.readAtlas(text(dir, "regions.tsv", ATLAS));
-        assertEquals(3, CohortFiles.levenshtein("kitten", "sitting"));
+        assertEquals(3, org.cruxset.scoring.Names.levenshtein("kitten", "sitting"));
         assertEquals("'AMY_L', 'AMY_R', 'PFC'", CohortFiles.nearest(atlas, "amy_l"));
     }
 

@@ -1,0 +1,78 @@
+package org.cruxset.scoring.eval;
+
+import java.util.Locale;
+import java.util.Objects;
+import org.cruxset.scoring.Checks;
+
+/**
+ * The one definition of a critical lesion set, used by every strategy. {@code BINOMIAL}: accuracy not
+ * significantly above chance (one-sided exact binomial p ≥ α; the default, α = 0.05). {@code ACCURACY}: accuracy
+ * at or below an absolute value. {@code FRACTION}: accuracy has fallen at least the given fraction of the way from
+ * the intact accuracy to chance.
+ */
+public record CollapseCriterion(Kind kind, double value) {
+    /** The kinds of criterion. */
+    public enum Kind { BINOMIAL, ACCURACY, FRACTION }
+
+    public CollapseCriterion {
+        Objects.requireNonNull(kind, "kind");
+        switch (kind) {
+            case BINOMIAL -> Checks.within("alpha", value, 1e-12, 0.5);
+            case ACCURACY, FRACTION -> Checks.within(kind.name().toLowerCase(Locale.ROOT), value, 0.0, 1.0);
+            default -> throw new IllegalStateException();
+        }
+    }
+
+    /** The default: not significantly above chance at α = 0.05. */
+    public static CollapseCriterion defaults() {
+        return new CollapseCriterion(Kind.BINOMIAL, 0.05);
+    }
+
+    /** Parses {@code binomial:ALPHA}, {@code accuracy:A} or {@code fraction:F}. */
+    public static CollapseCriterion parse(String text) {
+        int colon = text.indexOf(':');
+        String kind = colon < 0 ? text : text.substring(0, colon);
+        String value = colon < 0 ? "" : text.substring(colon + 1);
+        Kind k = switch (kind.trim().toLowerCase(Locale.ROOT)) {
+            case "binomial" -> Kind.BINOMIAL;
+            case "accuracy" -> Kind.ACCURACY;
+            case "fraction" -> Kind.FRACTION;
+            default -> throw new IllegalArgumentException("collapse criterion must be binomial:ALPHA, accuracy:A or "
+                    + "fraction:F, found '" + text + "'");
+        };
+        if (value.isBlank()) {
+            if (k == Kind.BINOMIAL) {
+                return defaults();
+            }
+            throw new IllegalArgumentException("collapse criterion '" + text + "' needs a value, e.g. " + kind + ":0.25");
+        }
+        try {
+            return new CollapseCriterion(k, Double.parseDouble(value.trim()));
+        } catch (NumberFormatException e) {
+            throw new IllegalArgumentException("collapse criterion '" + text + "': '" + value + "' is not a number");
+        }
+    }
+
+    /** Whether {@code set} is critical; {@code intact} is the score of the empty lesion on the same samples. */
+    public boolean critical(SetScore set, SetScore intact) {
+        return switch (kind) {
+            case BINOMIAL -> set.pValue() >= value;
+            case ACCURACY -> set.accuracy() <= value;
+            case FRACTION -> set.accuracy() <= intact.accuracy() - value * (intact.accuracy() - set.chance());
+        };
+    }
+
+    /** A sentence for reports. */
+    public String describe() {
+        return switch (kind) {
+            case BINOMIAL -> "accuracy not significantly above chance (one-sided exact binomial, alpha " + value + ")";
+            case ACCURACY -> "accuracy at or below " + value;
+            case FRACTION -> "accuracy fallen at least " + value + " of the way from intact accuracy to chance";
+        };
+    }
+
+    /** The option spelling, e.g. {@code binomial:0.05}. */
+    public String label() {
+        return kind.name().toLowerCase(Locale.ROOT) + ":" + value;
+    }
+}
