@@ -1,0 +1,1168 @@
+package org.cruxset.scoring.store;
+
+import java.io.IOException;
+import java.nio.ByteBuffer;
+import java.nio.ByteOrder;
+import java.nio.file.Files;
+import java.nio.file.Path;
+import java.sql.Connection;
+import java.sql.DriverManager;
+import java.sql.PreparedStatement;
+import java.sql.ResultSet;
+import java.sql.SQLException;
+import java.sql.Statement;
+import java.sql.Types;
+import java.time.Instant;
+import java.util.ArrayList;
+import java.util.Collection;
+import java.util.HashMap;
+import java.util.HashSet;
+import java.util.LinkedHashMap;
+import java.util.LinkedHashSet;
+import java.util.List;
+import java.util.Locale;
+import java.util.Map;
+import java.util.Objects;
+import java.util.Set;
+import org.cruxset.scoring.Provenance;
+import org.cruxset.scoring.eval.ModelInputs;
+import org.cruxset.scoring.eval.Outcomes;
+import org.cruxset.scoring.eval.SetScore;
+import org.cruxset.scoring.lesion.LesionMode;
+import org.sqlite.SQLiteConfig;
+
+/**
+ * The results of one output folder in one SQLite file: runs, the datasets they scored, every evaluation (scores and
+ * per-sample outcomes) stored once under its {@link EvaluationKey}, and which run paid for which evaluation.
+ *
+ * <p>Schema version 1 (the DDL is {@link #SCHEMA}; {@code SCHEMA.md} beside this class documents every column):
+ * <ul>
+ *   <li>{@code schema_version(version)}: one row, 1; a file without it is not a store, a higher version is refused.</li>
+ *   <li>{@code runs}: one row per command, unique {@code run_key}, its kind, full config, evaluation identity
+ *       (model and data hash, preprocessing, lesion mode and seed), seed, provenance, start and end times and
+ *       status ({@code running} until {@link #finish(Run)}, then {@code finished}).</li>
+ *   <li>{@code datasets} and {@code dataset_samples}: the scored samples of a data hash, in scoring order, with id,
+ *       subject, label and (when registered with the model's classes) class index, so per-sample outcomes can be
+ *       joined to sample ids.</li>
+ *   <li>{@code evaluations}: one row per unique key (model, data, preprocessing, mode, mode seed, set), with the set
+ *       as hex and as region names, every {@link SetScore} field, wall time, and the outcomes as two little-endian
+ *       BLOBs ({@code predicted}: int32 per sample; {@code true_class_prob}: float32 per sample, raw bits).</li>
+ *   <li>{@code run_evaluations}: what each run paid, primary key (run, evaluation) so a run pays for a set once,
+ *       with cost, whether the evaluation already existed ({@code reused}) and the order within the run.</li>
+ * </ul>
+ * Score doubles are SQLite REALs (IEEE 754 binary64) and read back bit for bit, with two exceptions imposed by
+ * SQLite: NaN is stored as NULL (and read back as {@link Double#NaN}), and -0.0 reads back as 0.0. Outcome
+ * probabilities are raw float32 bits and always read back exactly.
+ *
+ * <p>Durability: WAL journal with {@code synchronous=NORMAL}. A commit appends the transaction to the WAL file with
+ * a write system call before {@link #record} returns, so every committed transaction survives the process being
+ * killed (kill -9, out of memory, a crash); fsync happens only at checkpoints, so an operating-system crash or power
+ * loss can lose the last few committed transactions, but never leaves a half-written one or a corrupt file. Losing
+ * them costs only decoding those sets again on resume (an evaluation and its charge to the run commit together), so
+ * we do not pay an fsync per commit ({@code FULL}). Foreign keys are enforced, a busy timeout of 30 s lets another
+ * process share the file, and every write is one {@code BEGIN IMMEDIATE} transaction.
+ *
+ * <p>Thread safety: one JDBC connection, every method (including those of {@link Run}) runs under one lock, so a
+ * store may be shared by threads; calls are serialised.
+ */
+public final class ResultsStore implements AutoCloseable {
+    /** The schema version this code writes and reads. */
+    public static final int SCHEMA_VERSION = 1;
+
+    /** Milliseconds a statement waits for another connection's lock before failing. */
+    public static final int BUSY_TIMEOUT_MS = 30_000;
+
+    /** The DDL of schema version 1, one statement per element, in creation order. */
+    public static final List<String> SCHEMA = List.of(
+            """
+            CREATE TABLE schema_version (
+              version INTEGER NOT NULL
+            )""",
+            """
+            CREATE TABLE runs (
+              id              INTEGER PRIMARY KEY,
+              run_key         TEXT    NOT NULL UNIQUE,
+              kind            TEXT    NOT NULL,
+              config          TEXT    NOT NULL,
+              model_hash      TEXT    NOT NULL,
+              data_hash       TEXT    NOT NULL,
+              preprocessing   TEXT    NOT NULL,
+              lesion_mode     TEXT    NOT NULL,
+              mode_seed       INTEGER NOT NULL,
+              seed            INTEGER NOT NULL,
+              cruxset_version TEXT    NOT NULL,
+              jvm             TEXT    NOT NULL,
+              os              TEXT    NOT NULL,
+              arch            TEXT    NOT NULL,
+              started_at      TEXT    NOT NULL,
+              ended_at        TEXT,
+              status          TEXT    NOT NULL CHECK (status IN ('running', 'finished'))
+            )""",
+            """
+            CREATE TABLE datasets (
+              data_hash     TEXT    PRIMARY KEY,
+              samples       INTEGER NOT NULL,
+              class_labels  TEXT,
+              registered_at TEXT    NOT NULL
+            )""",
+            """
+            CREATE TABLE dataset_samples (
+              data_hash    TEXT    NOT NULL REFERENCES datasets (data_hash),
+              sample_index INTEGER NOT NULL,
+              sample_id    TEXT    NOT NULL,
+              subject      TEXT    NOT NULL,
+              label        TEXT    NOT NULL,
+              label_index  INTEGER,
+              PRIMARY KEY (data_hash, sample_index)
+            ) WITHOUT ROWID""",
+            """
+            CREATE TABLE evaluations (
+              id                 INTEGER PRIMARY KEY,
+              model_hash         TEXT    NOT NULL,
+              data_hash          TEXT    NOT NULL,
+              preprocessing      TEXT    NOT NULL,
+              lesion_mode        TEXT    NOT NULL,
+              mode_seed          INTEGER NOT NULL,
+              set_hex            TEXT    NOT NULL,
+              universe           INTEGER NOT NULL,
+              set_size           INTEGER NOT NULL,
+              region_names       TEXT    NOT NULL,
+              n                  INTEGER NOT NULL,
+              correct            INTEGER NOT NULL,
+              accuracy           REAL,
+              balanced_accuracy  REAL,
+              mean_true_prob     REAL,
+              per_class_accuracy TEXT    NOT NULL,
+              chance             REAL,
+              wilson_low         REAL,
+              wilson_high        REAL,
+              p_value            REAL,
+              wall_seconds       REAL    NOT NULL,
+              predicted          BLOB    NOT NULL,
+              true_class_prob    BLOB    NOT NULL,
+              created_at         TEXT    NOT NULL,
+              created_by_run     INTEGER NOT NULL REFERENCES runs (id),
+              UNIQUE (model_hash, data_hash, preprocessing, lesion_mode, mode_seed, set_hex)
+            )""",
+            """
+            CREATE TABLE run_evaluations (
+              run_id        INTEGER NOT NULL REFERENCES runs (id),
+              evaluation_id INTEGER NOT NULL REFERENCES evaluations (id),
+              cost          REAL    NOT NULL CHECK (cost >= 0),
+              reused        INTEGER NOT NULL CHECK (reused IN (0, 1)),
+              position      INTEGER NOT NULL,
+              PRIMARY KEY (run_id, evaluation_id),
+              UNIQUE (run_id, position)
+            ) WITHOUT ROWID""");
+
+    private static final String RUNNING = "running";
+    private static final String FINISHED = "finished";
+    private static final int CHUNK = 500;
+    private static final String KEY_WHERE = "model_hash = ? AND data_hash = ? AND preprocessing = ? AND lesion_mode = ?"
+            + " AND mode_seed = ?";
+    private static final String EVALUATION_COLUMNS = "id, model_hash, data_hash, preprocessing, lesion_mode, mode_seed,"
+            + " set_hex, universe, n, correct, accuracy, balanced_accuracy, mean_true_prob, per_class_accuracy, chance,"
+            + " wilson_low, wilson_high, p_value, wall_seconds, predicted, true_class_prob";
+
+    private final Path file;
+    private final Object lock = new Object();
+    private Connection connection;
+
+    private ResultsStore(Path file, Connection connection) {
+        this.file = file;
+        this.connection = connection;
+    }
+
+    /** Opens the store in {@code dbFile}, creating the file (and its folder) with the current schema when absent. */
+    public static ResultsStore open(Path dbFile) {
+        Path file = dbFile.toAbsolutePath().normalize();
+        try {
+            Path parent = file.getParent();
+            if (parent != null) {
+                Files.createDirectories(parent);
+            }
+        } catch (IOException e) {
+            throw new StoreException(file, "cannot create the folder of the results store: " + e.getMessage(), e);
+        }
+        if (Files.isDirectory(file)) {
+            throw new StoreException(file, "is a folder; expected a results store file (e.g. results.sqlite)");
+        }
+        Connection c = connect(file, false);
+        try {
+            Integer version = readSchemaVersion(c, file);
+            try (Statement s = c.createStatement()) {
+                // A file system without shared memory keeps the old journal; commits stay durable against a
+                // killed process in rollback-journal mode as well, so the store still opens.
+                try (ResultSet r = s.executeQuery("PRAGMA journal_mode = WAL")) {
+                    r.next();
+                }
+                s.execute("PRAGMA synchronous = NORMAL");
+                s.execute("PRAGMA foreign_keys = ON");
+            }
+            if (version == null) {
+                createSchema(c, file);
+            }
+            return new ResultsStore(file, c);
+        } catch (SQLException e) {
+            closeQuietly(c);
+            throw new StoreException(file, "cannot open the results store: " + e.getMessage(), e);
+        } catch (RuntimeException e) {
+            closeQuietly(c);
+            throw e;
+        }
+    }
+
+    /** A read-only connection to an existing store after checking its schema version (for exports). */
+    static Connection openReadOnly(Path dbFile) {
+        Path file = dbFile.toAbsolutePath().normalize();
+        if (!Files.isRegularFile(file)) {
+            throw new StoreException(file, "results store not found");
+        }
+        Connection c = connect(file, true);
+        try {
+            if (readSchemaVersion(c, file) == null) {
+                throw new StoreException(file, "is not a Cruxset results store: the database is empty"
+                        + " (expected a schema_version table with version " + SCHEMA_VERSION + ")");
+            }
+            return c;
+        } catch (RuntimeException e) {
+            closeQuietly(c);
+            throw e;
+        }
+    }
+
+    private static Connection connect(Path file, boolean readOnly) {
+        SQLiteConfig config = new SQLiteConfig();
+        config.setBusyTimeout(BUSY_TIMEOUT_MS);
+        config.setReadOnly(readOnly);
+        try {
+            return DriverManager.getConnection("jdbc:sqlite:" + file, config.toProperties());
+        } catch (SQLException e) {
+            throw new StoreException(file, "cannot open the results store: " + e.getMessage(), e);
+        }
+    }
+
+    /** The version in the file, or null when the database is empty; fails naming the file when it is not a store. */
+    private static Integer readSchemaVersion(Connection c, Path file) {
+        List<String> tables = new ArrayList<>();
+        try (Statement s = c.createStatement();
+             ResultSet r = s.executeQuery("SELECT name FROM sqlite_schema WHERE type = 'table' ORDER BY name")) {
+            while (r.next()) {
+                tables.add(r.getString(1));
+            }
+        } catch (SQLException e) {
+            throw new StoreException(file, "is not a Cruxset results store: cannot read it as an SQLite database ("
+                    + e.getMessage() + ")", e);
+        }
+        if (tables.isEmpty()) {
+            return null;
+        }
+        if (!tables.contains("schema_version")) {
+            throw new StoreException(file, "is not a Cruxset results store: it has no schema_version table (found "
+                    + "tables " + String.join(", ", tables) + "; expected schema_version, runs, datasets, "
+                    + "dataset_samples, evaluations, run_evaluations)");
+        }
+        List<Long> versions = new ArrayList<>();
+        try (Statement s = c.createStatement();
+             ResultSet r = s.executeQuery("SELECT version FROM schema_version")) {
+            while (r.next()) {
+                versions.add(r.getLong(1));
+            }
+        } catch (SQLException e) {
+            throw new StoreException(file, "cannot read the schema_version table: " + e.getMessage(), e);
+        }
+        if (versions.size() != 1) {
+            throw new StoreException(file, "is not a readable Cruxset results store: schema_version must hold one row, "
+                    + "found " + versions.size() + " " + versions);
+        }
+        long v = versions.get(0);
+        if (v > SCHEMA_VERSION) {
+            throw new StoreException(file, "was written by a newer Cruxset: store schema version " + v
+                    + ", this version reads schema version " + SCHEMA_VERSION + " or older");
+        }
+        if (v < 1) {
+            throw new StoreException(file, "is not a readable Cruxset results store: schema version " + v
+                    + ", expected 1 to " + SCHEMA_VERSION);
+        }
+        return (int) v;
+    }
+
+    private static void createSchema(Connection c, Path file) throws SQLException {
+        try (Statement s = c.createStatement()) {
+            s.execute("BEGIN IMMEDIATE");
+            try {
+                boolean exists;
+                try (ResultSet r = s.executeQuery(
+                        "SELECT count(*) FROM sqlite_schema WHERE type = 'table' AND name = 'schema_version'")) {
+                    exists = r.next() && r.getInt(1) > 0;
+                }
+                if (!exists) {
+                    for (String ddl : SCHEMA) {
+                        s.execute(ddl);
+                    }
+                    s.execute("INSERT INTO schema_version (version) VALUES (" + SCHEMA_VERSION + ")");
+                }
+                s.execute("COMMIT");
+            } catch (SQLException | RuntimeException e) {
+                rollbackQuietly(s);
+                throw e;
+            }
+        }
+        readSchemaVersion(c, file);
+    }
+
+    /** The database file. */
+    public Path file() {
+        return file;
+    }
+
+    /**
+     * Returns the run with {@code info.runKey()} as it was left (resumed; it must have the same kind, hashes,
+     * preprocessing, mode and seeds, and keeps its first config), or starts a new one.
+     */
+    public Run beginOrResume(RunInfo info) {
+        Objects.requireNonNull(info, "info");
+        synchronized (lock) {
+            return inTransaction("begin or resume run '" + info.runKey() + "'", c -> {
+                Provenance p = info.provenance();
+                int inserted;
+                try (PreparedStatement ps = c.prepareStatement("INSERT INTO runs (run_key, kind, config, model_hash,"
+                        + " data_hash, preprocessing, lesion_mode, mode_seed, seed, cruxset_version, jvm, os, arch,"
+                        + " started_at, status) VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)"
+                        + " ON CONFLICT (run_key) DO NOTHING")) {
+                    ps.setString(1, info.runKey());
+                    ps.setString(2, info.kind());
+                    ps.setString(3, info.config());
+                    ps.setString(4, info.modelHash());
+                    ps.setString(5, info.dataHash());
+                    ps.setString(6, info.preprocessing());
+                    ps.setString(7, info.mode().label());
+                    ps.setLong(8, info.modeSeed());
+                    ps.setLong(9, info.seed());
+                    ps.setString(10, p.cruxsetVersion());
+                    ps.setString(11, p.jvm());
+                    ps.setString(12, p.os());
+                    ps.setString(13, p.arch());
+                    ps.setString(14, now());
+                    ps.setString(15, RUNNING);
+                    inserted = ps.executeUpdate();
+                }
+                long id;
+                boolean finished;
+                try (PreparedStatement ps = c.prepareStatement("SELECT id, kind, model_hash, data_hash, preprocessing,"
+                        + " lesion_mode, mode_seed, seed, status FROM runs WHERE run_key = ?")) {
+                    ps.setString(1, info.runKey());
+                    try (ResultSet r = ps.executeQuery()) {
+                        r.next();
+                        id = r.getLong(1);
+                        List<String> differ = new ArrayList<>();
+                        compare(differ, "kind", r.getString(2), info.kind());
+                        compare(differ, "model_hash", r.getString(3), info.modelHash());
+                        compare(differ, "data_hash", r.getString(4), info.dataHash());
+                        compare(differ, "preprocessing", r.getString(5), info.preprocessing());
+                        compare(differ, "lesion_mode", r.getString(6), info.mode().label());
+                        compare(differ, "mode_seed", Long.toString(r.getLong(7)), Long.toString(info.modeSeed()));
+                        compare(differ, "seed", Long.toString(r.getLong(8)), Long.toString(info.seed()));
+                        if (!differ.isEmpty()) {
+                            throw new StoreException(file, "run '" + info.runKey() + "' (id " + id + ") exists with "
+                                    + "other settings: " + String.join("; ", differ)
+                                    + "; a run key must name one command");
+                        }
+                        finished = FINISHED.equals(r.getString(9));
+                    }
+                }
+                Run run = new Run(id, info.runKey(), inserted == 0, finished);
+                if (run.resumed) {
+                    loadPaid(c, run);
+                }
+                return run;
+            });
+        }
+    }
+
+    private static void compare(List<String> differ, String column, String stored, String given) {
+        if (!stored.equals(given)) {
+            differ.add(column + " is '" + stored + "' in the store, '" + given + "' now");
+        }
+    }
+
+    private void loadPaid(Connection c, Run run) throws SQLException {
+        try (PreparedStatement ps = c.prepareStatement("SELECT e.model_hash, e.data_hash, e.preprocessing,"
+                + " e.lesion_mode, e.mode_seed, e.set_hex, e.universe, re.cost FROM run_evaluations re"
+                + " JOIN evaluations e ON e.id = re.evaluation_id WHERE re.run_id = ? ORDER BY re.position")) {
+            ps.setLong(1, run.id);
+            try (ResultSet r = ps.executeQuery()) {
+                while (r.next()) {
+                    EvaluationKey key = new EvaluationKey(r.getString(1), r.getString(2), r.getString(3),
+                            parseMode(r.getString(4)), r.getLong(5), EvaluationKey.parseSetHex(r.getString(6),
+                            r.getInt(7)));
+                    run.add(key, r.getDouble(8));
+                }
+            }
+        }
+    }
+
+    /**
+     * Registers the scored samples of {@code dataHash} in scoring order with their label names; registering the same
+     * samples again does nothing, different ones fail.
+     */
+    public void registerDataset(String dataHash, List<String> sampleIds, List<String> subjects, List<String> labels) {
+        register(dataHash, sampleIds, subjects, labels, null, null);
+    }
+
+    /**
+     * Registers the scored samples of {@code dataHash} with the model's class names and each sample's class index,
+     * so exports can tell whether each prediction was correct; idempotent like the other overload.
+     */
+    public void registerDataset(String dataHash, List<String> sampleIds, List<String> subjects,
+                                List<String> classLabels, int[] labels) {
+        List<String> names = new ArrayList<>(labels.length);
+        for (int s = 0; s < labels.length; s++) {
+            if (labels[s] < 0 || labels[s] >= classLabels.size()) {
+                throw new IllegalArgumentException("dataset " + dataHash + ": sample " + s + " has class index "
+                        + labels[s] + ", expected 0 to " + (classLabels.size() - 1));
+            }
+            names.add(classLabels.get(labels[s]));
+        }
+        register(dataHash, sampleIds, subjects, names, List.copyOf(classLabels), labels.clone());
+    }
+
+    /** Registers the samples of {@code inputs} under {@code dataHash}, with the model's classes. */
+    public void registerDataset(String dataHash, ModelInputs inputs) {
+        registerDataset(dataHash, inputs.sampleIds(), inputs.subjects(), inputs.classLabels(), inputs.labels());
+    }
+
+    private void register(String dataHash, List<String> sampleIds, List<String> subjects, List<String> labels,
+                          List<String> classLabels, int[] labelIndex) {
+        Objects.requireNonNull(dataHash, "dataHash");
+        int n = sampleIds.size();
+        if (subjects.size() != n || labels.size() != n) {
+            throw new IllegalArgumentException("dataset " + dataHash + ": sampleIds, subjects and labels must have "
+                    + "equal lengths, found " + n + ", " + subjects.size() + ", " + labels.size());
+        }
+        String classes = classLabels == null ? null : jsonStrings(classLabels);
+        synchronized (lock) {
+            inTransaction("register dataset " + dataHash, c -> {
+                try (PreparedStatement ps = c.prepareStatement(
+                        "SELECT samples, class_labels FROM datasets WHERE data_hash = ?")) {
+                    ps.setString(1, dataHash);
+                    try (ResultSet r = ps.executeQuery()) {
+                        if (r.next()) {
+                            checkSameDataset(c, dataHash, r.getInt(1), r.getString(2), sampleIds, subjects, labels,
+                                    classes, labelIndex);
+                            return null;
+                        }
+                    }
+                }
+                try (PreparedStatement ps = c.prepareStatement("INSERT INTO datasets (data_hash, samples, class_labels,"
+                        + " registered_at) VALUES (?, ?, ?, ?)")) {
+                    ps.setString(1, dataHash);
+                    ps.setInt(2, n);
+                    ps.setString(3, classes);
+                    ps.setString(4, now());
+                    ps.executeUpdate();
+                }
+                try (PreparedStatement ps = c.prepareStatement("INSERT INTO dataset_samples (data_hash, sample_index,"
+                        + " sample_id, subject, label, label_index) VALUES (?, ?, ?, ?, ?, ?)")) {
+                    for (int s = 0; s < n; s++) {
+                        ps.setString(1, dataHash);
+                        ps.setInt(2, s);
+                        ps.setString(3, sampleIds.get(s));
+                        ps.setString(4, subjects.get(s));
+                        ps.setString(5, labels.get(s));
+                        if (labelIndex == null) {
+                            ps.setNull(6, Types.INTEGER);
+                        } else {
+                            ps.setInt(6, labelIndex[s]);
+                        }
+                        ps.addBatch();
+                    }
+                    ps.executeBatch();
+                }
+                return null;
+            });
+        }
+    }
+
+    /** Fails unless the stored samples match; adds the class indices when the stored dataset lacks them. */
+    private void checkSameDataset(Connection c, String dataHash, int storedN, String storedClasses,
+                                  List<String> sampleIds, List<String> subjects, List<String> labels,
+                                  String classes, int[] labelIndex) throws SQLException {
+        String what = "dataset " + dataHash + " is registered with other samples: ";
+        if (storedN != sampleIds.size()) {
+            throw new StoreException(file, what + storedN + " samples in the store, " + sampleIds.size() + " now");
+        }
+        if (storedClasses != null && classes != null && !storedClasses.equals(classes)) {
+            throw new StoreException(file, what + "classes " + storedClasses + " in the store, " + classes + " now");
+        }
+        try (PreparedStatement ps = c.prepareStatement("SELECT sample_index, sample_id, subject, label, label_index"
+                + " FROM dataset_samples WHERE data_hash = ? ORDER BY sample_index")) {
+            ps.setString(1, dataHash);
+            try (ResultSet r = ps.executeQuery()) {
+                int s = 0;
+                while (r.next()) {
+                    int index = r.getInt(5);
+                    boolean indexDiffers = !r.wasNull() && labelIndex != null && index != labelIndex[s];
+                    if (r.getInt(1) != s || !r.getString(2).equals(sampleIds.get(s))
+                            || !r.getString(3).equals(subjects.get(s)) || !r.getString(4).equals(labels.get(s))
+                            || indexDiffers) {
+                        throw new StoreException(file, what + "sample " + s + " is " + r.getString(2) + " (subject "
+                                + r.getString(3) + ", label " + r.getString(4) + ") in the store, " + sampleIds.get(s)
+                                + " (subject " + subjects.get(s) + ", label " + labels.get(s) + ") now");
+                    }
+                    s++;
+                }
+                if (s != storedN) {
+                    throw new StoreException(file, "dataset " + dataHash + " lists " + storedN + " samples but "
+                            + s + " sample rows are stored");
+                }
+            }
+        }
+        if (storedClasses == null && classes != null) {
+            try (PreparedStatement ps = c.prepareStatement("UPDATE datasets SET class_labels = ? WHERE data_hash = ?")) {
+                ps.setString(1, classes);
+                ps.setString(2, dataHash);
+                ps.executeUpdate();
+            }
+            try (PreparedStatement ps = c.prepareStatement(
+                    "UPDATE dataset_samples SET label_index = ? WHERE data_hash = ? AND sample_index = ?")) {
+                for (int s = 0; s < storedN; s++) {
+                    ps.setInt(1, labelIndex[s]);
+                    ps.setString(2, dataHash);
+                    ps.setInt(3, s);
+                    ps.addBatch();
+                }
+                ps.executeBatch();
+            }
+        }
+    }
+
+    /** The stored evaluations among {@code keys} (absent keys are left out), found with batched queries. */
+    public Map<EvaluationKey, Stored> lookup(Collection<EvaluationKey> keys) {
+        Map<EvaluationKey, Stored> out = new HashMap<>();
+        if (keys.isEmpty()) {
+            return out;
+        }
+        synchronized (lock) {
+            requireOpen();
+            try {
+                forEachChunk(keys, (group, chunk) -> {
+                    Map<String, EvaluationKey> byHex = new HashMap<>();
+                    for (EvaluationKey k : chunk) {
+                        byHex.put(k.setHex(), k);
+                    }
+                    String sql = "SELECT " + EVALUATION_COLUMNS + " FROM evaluations WHERE " + KEY_WHERE
+                            + " AND set_hex IN (" + placeholders(chunk.size()) + ")";
+                    try (PreparedStatement ps = connection.prepareStatement(sql)) {
+                        int i = bindGroup(ps, group);
+                        for (EvaluationKey k : chunk) {
+                            ps.setString(++i, k.setHex());
+                        }
+                        try (ResultSet r = ps.executeQuery()) {
+                            while (r.next()) {
+                                EvaluationKey k = byHex.get(r.getString(7));
+                                if (r.getInt(8) != k.set().universe()) {
+                                    throw new StoreException(file, "evaluation " + r.getLong(1) + " has set "
+                                            + r.getString(7) + " over " + r.getInt(8) + " regions, but it was looked "
+                                            + "up over " + k.set().universe() + " regions");
+                                }
+                                out.put(k, readStored(r, k));
+                            }
+                        }
+                    }
+                });
+            } catch (SQLException e) {
+                throw new StoreException(file, "cannot look up " + keys.size() + " evaluations: " + e.getMessage(), e);
+            }
+        }
+        return out;
+    }
+
+    /**
+     * Stores {@code fresh} evaluations (an existing row with the same key is kept) and charges {@code run}
+     * {@code costEach} for each fresh and reused evaluation it has not paid for yet, all in one transaction; links
+     * are numbered fresh ones first, then reused ones, each in list order.
+     */
+    public void record(Run run, List<NewEvaluation> fresh, List<EvaluationKey> reusedKeys, double costEach) {
+        Objects.requireNonNull(run, "run");
+        if (!(costEach >= 0) || Double.isInfinite(costEach)) {
+            throw new IllegalArgumentException("costEach must be finite and at least 0, found " + costEach);
+        }
+        if (run.store() != this) {
+            throw new IllegalArgumentException("run " + run.id + " belongs to another results store");
+        }
+        if (fresh.isEmpty() && reusedKeys.isEmpty()) {
+            return;
+        }
+        synchronized (lock) {
+            inTransaction("record " + fresh.size() + " new and " + reusedKeys.size() + " reused evaluations for run "
+                    + run.id, c -> {
+                Map<EvaluationKey, Boolean> links = new LinkedHashMap<>();
+                String createdAt = now();
+                try (PreparedStatement ins = c.prepareStatement("INSERT INTO evaluations (model_hash, data_hash,"
+                        + " preprocessing, lesion_mode, mode_seed, set_hex, universe, set_size, region_names, n,"
+                        + " correct, accuracy, balanced_accuracy, mean_true_prob, per_class_accuracy, chance,"
+                        + " wilson_low, wilson_high, p_value, wall_seconds, predicted, true_class_prob, created_at,"
+                        + " created_by_run) VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?,"
+                        + " ?, ?) ON CONFLICT DO NOTHING")) {
+                    for (NewEvaluation e : fresh) {
+                        bindNew(ins, e, createdAt, run.id);
+                        int inserted = ins.executeUpdate();
+                        links.merge(e.key(), inserted == 0, Boolean::logicalAnd);
+                    }
+                }
+                for (EvaluationKey k : reusedKeys) {
+                    links.putIfAbsent(k, Boolean.TRUE);
+                }
+                Map<EvaluationKey, Long> ids = ids(c, links.keySet());
+                List<EvaluationKey> charged = new ArrayList<>();
+                int position;
+                try (PreparedStatement ps = c.prepareStatement(
+                        "SELECT coalesce(max(position) + 1, 0) FROM run_evaluations WHERE run_id = ?")) {
+                    ps.setLong(1, run.id);
+                    try (ResultSet r = ps.executeQuery()) {
+                        r.next();
+                        position = r.getInt(1);
+                    }
+                }
+                try (PreparedStatement link = c.prepareStatement("INSERT INTO run_evaluations (run_id, evaluation_id,"
+                        + " cost, reused, position) VALUES (?, ?, ?, ?, ?) ON CONFLICT (run_id, evaluation_id)"
+                        + " DO NOTHING")) {
+                    for (Map.Entry<EvaluationKey, Boolean> e : links.entrySet()) {
+                        Long id = ids.get(e.getKey());
+                        if (id == null) {
+                            throw new IllegalArgumentException("reused evaluation " + describe(e.getKey())
+                                    + " is not in the results store " + file);
+                        }
+                        link.setLong(1, run.id);
+                        link.setLong(2, id);
+                        link.setDouble(3, costEach);
+                        link.setInt(4, e.getValue() ? 1 : 0);
+                        link.setInt(5, position);
+                        if (link.executeUpdate() == 1) {
+                            position++;
+                            charged.add(e.getKey());
+                        }
+                    }
+                }
+                return charged;
+            }, charged -> {
+                for (EvaluationKey k : charged) {
+                    run.add(k, costEach);
+                }
+            });
+        }
+    }
+
+    private Map<EvaluationKey, Long> ids(Connection c, Collection<EvaluationKey> keys) throws SQLException {
+        Map<EvaluationKey, Long> ids = new HashMap<>();
+        forEachChunk(keys, (group, chunk) -> {
+            Map<String, EvaluationKey> byHex = new HashMap<>();
+            for (EvaluationKey k : chunk) {
+                byHex.put(k.setHex(), k);
+            }
+            try (PreparedStatement ps = c.prepareStatement("SELECT id, set_hex FROM evaluations WHERE " + KEY_WHERE
+                    + " AND set_hex IN (" + placeholders(chunk.size()) + ")")) {
+                int i = bindGroup(ps, group);
+                for (EvaluationKey k : chunk) {
+                    ps.setString(++i, k.setHex());
+                }
+                try (ResultSet r = ps.executeQuery()) {
+                    while (r.next()) {
+                        ids.put(byHex.get(r.getString(2)), r.getLong(1));
+                    }
+                }
+            }
+        });
+        return ids;
+    }
+
+    /** Marks {@code run} finished now. */
+    public void finish(Run run) {
+        Objects.requireNonNull(run, "run");
+        synchronized (lock) {
+            inTransaction("finish run " + run.id, c -> {
+                try (PreparedStatement ps = c.prepareStatement(
+                        "UPDATE runs SET ended_at = ?, status = ? WHERE id = ?")) {
+                    ps.setString(1, now());
+                    ps.setString(2, FINISHED);
+                    ps.setLong(3, run.id);
+                    ps.executeUpdate();
+                }
+                return null;
+            }, x -> run.finished = true);
+        }
+    }
+
+    /** Number of stored evaluations. */
+    public int countEvaluations() {
+        return countWhere("SELECT count(*) FROM evaluations", null);
+    }
+
+    /** Number of evaluations run {@code runId} has paid for. */
+    public int countRunEvaluations(long runId) {
+        return countWhere("SELECT count(*) FROM run_evaluations WHERE run_id = ?", runId);
+    }
+
+    private int countWhere(String sql, Long arg) {
+        synchronized (lock) {
+            requireOpen();
+            try (PreparedStatement ps = connection.prepareStatement(sql)) {
+                if (arg != null) {
+                    ps.setLong(1, arg);
+                }
+                try (ResultSet r = ps.executeQuery()) {
+                    r.next();
+                    return r.getInt(1);
+                }
+            } catch (SQLException e) {
+                throw new StoreException(file, "cannot count rows: " + e.getMessage(), e);
+            }
+        }
+    }
+
+    /** Closes the connection; committed results are already on disk. */
+    @Override
+    public void close() {
+        synchronized (lock) {
+            if (connection != null) {
+                try {
+                    connection.close();
+                } catch (SQLException e) {
+                    throw new StoreException(file, "cannot close the results store: " + e.getMessage(), e);
+                } finally {
+                    connection = null;
+                }
+            }
+        }
+    }
+
+    // ---- rows ----
+
+    private static void bindNew(PreparedStatement ps, NewEvaluation e, String createdAt, long runId)
+            throws SQLException {
+        EvaluationKey k = e.key();
+        SetScore s = e.score();
+        ps.setString(1, k.modelHash());
+        ps.setString(2, k.dataHash());
+        ps.setString(3, k.preprocessing());
+        ps.setString(4, k.mode().label());
+        ps.setLong(5, k.modeSeed());
+        ps.setString(6, k.setHex());
+        ps.setInt(7, k.set().universe());
+        ps.setInt(8, k.set().size());
+        ps.setString(9, e.regionNames());
+        ps.setInt(10, s.n());
+        ps.setInt(11, s.correct());
+        setReal(ps, 12, s.accuracy());
+        setReal(ps, 13, s.balancedAccuracy());
+        setReal(ps, 14, s.meanTrueClassProbability());
+        ps.setString(15, jsonDoubles(s.perClassAccuracy()));
+        setReal(ps, 16, s.chance());
+        setReal(ps, 17, s.wilsonLow());
+        setReal(ps, 18, s.wilsonHigh());
+        setReal(ps, 19, s.pValue());
+        ps.setDouble(20, e.wallSeconds());
+        ps.setBytes(21, encodePredicted(e.outcomes()));
+        ps.setBytes(22, encodeProbabilities(e.outcomes()));
+        ps.setString(23, createdAt);
+        ps.setLong(24, runId);
+    }
+
+    private Stored readStored(ResultSet r, EvaluationKey k) throws SQLException {
+        long id = r.getLong(1);
+        int n = r.getInt(9);
+        SetScore score = new SetScore(n, r.getInt(10), getReal(r, 11), getReal(r, 12), getReal(r, 13),
+                parseJsonDoubles(r.getString(14), id), getReal(r, 15), getReal(r, 16), getReal(r, 17),
+                getReal(r, 18));
+        Outcomes outcomes = decodeOutcomes(file, id, n, r.getBytes(20), r.getBytes(21));
+        return new Stored(id, k, score, outcomes, r.getDouble(19));
+    }
+
+    private static void setReal(PreparedStatement ps, int i, double v) throws SQLException {
+        if (Double.isNaN(v)) {
+            ps.setNull(i, Types.REAL);
+        } else {
+            ps.setDouble(i, v);
+        }
+    }
+
+    /** A REAL column, NULL read as NaN. */
+    static double getReal(ResultSet r, int i) throws SQLException {
+        double v = r.getDouble(i);
+        return r.wasNull() ? Double.NaN : v;
+    }
+
+    /** Predicted classes as int32 little-endian. */
+    static byte[] encodePredicted(Outcomes o) {
+        ByteBuffer b = ByteBuffer.allocate(4 * o.size()).order(ByteOrder.LITTLE_ENDIAN);
+        for (int s = 0; s < o.size(); s++) {
+            b.putInt(o.predicted(s));
+        }
+        return b.array();
+    }
+
+    /** True-class probabilities as float32 little-endian, raw bits. */
+    static byte[] encodeProbabilities(Outcomes o) {
+        ByteBuffer b = ByteBuffer.allocate(4 * o.size()).order(ByteOrder.LITTLE_ENDIAN);
+        for (int s = 0; s < o.size(); s++) {
+            b.putInt(Float.floatToRawIntBits(o.trueClassProbability(s)));
+        }
+        return b.array();
+    }
+
+    /** Decodes the two outcome BLOBs of evaluation {@code id}, checking they hold {@code n} values each. */
+    static Outcomes decodeOutcomes(Path file, long id, int n, byte[] predicted, byte[] probabilities) {
+        if (predicted == null || predicted.length != 4L * n || probabilities == null
+                || probabilities.length != 4L * n) {
+            throw new StoreException(file, "evaluation " + id + " has damaged outcomes: expected " + 4L * n
+                    + " bytes in predicted and in true_class_prob for n = " + n + ", found "
+                    + (predicted == null ? "NULL" : predicted.length) + " and "
+                    + (probabilities == null ? "NULL" : probabilities.length));
+        }
+        ByteBuffer pb = ByteBuffer.wrap(predicted).order(ByteOrder.LITTLE_ENDIAN);
+        ByteBuffer qb = ByteBuffer.wrap(probabilities).order(ByteOrder.LITTLE_ENDIAN);
+        int[] pred = new int[n];
+        float[] prob = new float[n];
+        for (int s = 0; s < n; s++) {
+            pred[s] = pb.getInt();
+            prob[s] = Float.intBitsToFloat(qb.getInt());
+        }
+        return new Outcomes(pred, prob);
+    }
+
+    /** A JSON array of doubles, NaN as null, each written so it parses back to the same double. */
+    static String jsonDoubles(double[] values) {
+        StringBuilder sb = new StringBuilder("[");
+        for (int i = 0; i < values.length; i++) {
+            if (i > 0) {
+                sb.append(',');
+            }
+            double v = values[i];
+            if (Double.isNaN(v)) {
+                sb.append("null");
+            } else if (Double.isInfinite(v)) {
+                throw new IllegalArgumentException("per-class accuracy must be finite or NaN, found " + v);
+            } else {
+                sb.append(v);
+            }
+        }
+        return sb.append(']').toString();
+    }
+
+    private double[] parseJsonDoubles(String json, long id) {
+        String t = json.strip();
+        if (!t.startsWith("[") || !t.endsWith("]")) {
+            throw new StoreException(file, "evaluation " + id + ": per_class_accuracy must be a JSON array, found "
+                    + json);
+        }
+        String body = t.substring(1, t.length() - 1).strip();
+        if (body.isEmpty()) {
+            return new double[0];
+        }
+        String[] parts = body.split(",");
+        double[] out = new double[parts.length];
+        for (int i = 0; i < parts.length; i++) {
+            String p = parts[i].strip();
+            try {
+                out[i] = p.equals("null") ? Double.NaN : Double.parseDouble(p);
+            } catch (NumberFormatException e) {
+                throw new StoreException(file, "evaluation " + id + ": per_class_accuracy holds '" + p
+                        + "', expected a number or null", e);
+            }
+        }
+        return out;
+    }
+
+    private static String jsonStrings(List<String> values) {
+        StringBuilder sb = new StringBuilder("[");
+        for (int i = 0; i < values.size(); i++) {
+            if (i > 0) {
+                sb.append(',');
+            }
+            sb.append('"');
+            for (char ch : values.get(i).toCharArray()) {
+                switch (ch) {
+                    case '"' -> sb.append("\\\"");
+                    case '\\' -> sb.append("\\\\");
+                    default -> {
+                        if (ch < 0x20) {
+                            sb.append(String.format(Locale.ROOT, "\\u%04x", (int) ch));
+                        } else {
+                            sb.append(ch);
+                        }
+                    }
+                }
+            }
+            sb.append('"');
+        }
+        return sb.append(']').toString();
+    }
+
+    private LesionMode parseMode(String label) {
+        try {
+            return LesionMode.parse(label);
+        } catch (IllegalArgumentException e) {
+            throw new StoreException(file, "unknown lesion mode in the store: " + e.getMessage(), e);
+        }
+    }
+
+    private static String describe(EvaluationKey k) {
+        return "set " + k.set() + " (" + k.setHex() + ", model " + k.modelHash() + ", data " + k.dataHash() + ", "
+                + k.preprocessing() + ", " + k.mode().label() + " seed " + k.modeSeed() + ")";
+    }
+
+    private static String now() {
+        return Instant.now().toString();
+    }
+
+    // ---- chunked key queries ----
+
+    private interface ChunkAction {
+        void accept(EvaluationKey group, List<EvaluationKey> chunk) throws SQLException;
+    }
+
+    /** Groups keys by everything but the set, then hands out chunks of at most {@link #CHUNK} keys. */
+    private static void forEachChunk(Collection<EvaluationKey> keys, ChunkAction action) throws SQLException {
+        Map<List<Object>, List<EvaluationKey>> groups = new LinkedHashMap<>();
+        for (EvaluationKey k : new LinkedHashSet<>(keys)) {
+            groups.computeIfAbsent(List.of(k.modelHash(), k.dataHash(), k.preprocessing(), k.mode(), k.modeSeed()),
+                    g -> new ArrayList<>()).add(k);
+        }
+        for (List<EvaluationKey> g : groups.values()) {
+            Set<String> hexes = new HashSet<>();
+            List<EvaluationKey> unique = new ArrayList<>();
+            for (EvaluationKey k : g) {
+                if (!hexes.add(k.setHex())) {
+                    throw new IllegalArgumentException("two keys share set " + k.setHex() + " over different "
+                            + "universes; the model hash must fix the universe");
+                }
+                unique.add(k);
+            }
+            for (int from = 0; from < unique.size(); from += CHUNK) {
+                List<EvaluationKey> chunk = unique.subList(from, Math.min(unique.size(), from + CHUNK));
+                action.accept(chunk.get(0), chunk);
+            }
+        }
+    }
+
+    private static int bindGroup(PreparedStatement ps, EvaluationKey g) throws SQLException {
+        ps.setString(1, g.modelHash());
+        ps.setString(2, g.dataHash());
+        ps.setString(3, g.preprocessing());
+        ps.setString(4, g.mode().label());
+        ps.setLong(5, g.modeSeed());
+        return 5;
+    }
+
+    private static String placeholders(int n) {
+        return String.join(", ", java.util.Collections.nCopies(n, "?"));
+    }
+
+    // ---- transactions ----
+
+    private interface TxBody<T> {
+        T run(Connection c) throws SQLException;
+    }
+
+    private interface AfterCommit<T> {
+        void accept(T value);
+    }
+
+    private <T> T inTransaction(String what, TxBody<T> body) {
+        return inTransaction(what, body, x -> {
+        });
+    }
+
+    /** Runs {@code body} in one {@code BEGIN IMMEDIATE} transaction, then {@code after} once it has committed. */
+    private <T> T inTransaction(String what, TxBody<T> body, AfterCommit<T> after) {
+        requireOpen();
+        T value;
+        try (Statement s = connection.createStatement()) {
+            s.execute("BEGIN IMMEDIATE");
+            try {
+                value = body.run(connection);
+                s.execute("COMMIT");
+            } catch (SQLException | RuntimeException e) {
+                rollbackQuietly(s);
+                throw e;
+            }
+        } catch (SQLException e) {
+            throw new StoreException(file, "cannot " + what + ": " + e.getMessage(), e);
+        }
+        after.accept(value);
+        return value;
+    }
+
+    private static void rollbackQuietly(Statement s) {
+        try {
+            s.execute("ROLLBACK");
+        } catch (SQLException ignored) {
+            // The transaction was never started or SQLite already rolled it back.
+        }
+    }
+
+    private static void closeQuietly(Connection c) {
+        try {
+            c.close();
+        } catch (SQLException ignored) {
+            // Opening already failed; that error is the one reported.
+        }
+    }
+
+    private void requireOpen() {
+        if (connection == null) {
+            throw new IllegalStateException("the results store " + file + " is closed");
+        }
+    }
+
+    // ---- values ----
+
+    /** What a run is: its key (one per command), kind, full config, the evaluation identity it scores under, and seed. */
+    public record RunInfo(String runKey, String kind, String config, String modelHash, String dataHash,
+                          String preprocessing, LesionMode mode, long modeSeed, long seed, Provenance provenance) {
+        public RunInfo {
+            Objects.requireNonNull(runKey, "runKey");
+            Objects.requireNonNull(kind, "kind");
+            Objects.requireNonNull(config, "config");
+            Objects.requireNonNull(modelHash, "modelHash");
+            Objects.requireNonNull(dataHash, "dataHash");
+            Objects.requireNonNull(preprocessing, "preprocessing");
+            Objects.requireNonNull(mode, "mode");
+            Objects.requireNonNull(provenance, "provenance");
+            if (runKey.isBlank()) {
+                throw new IllegalArgumentException("runKey must not be blank");
+            }
+            if (!mode.isRandom()) {
+                modeSeed = 0;
+            }
+        }
+    }
+
+    /**
+     * An evaluation to store: its key, the set's region names comma-separated (for people reading the store), scores,
+     * outcomes and wall time in seconds.
+     */
+    public record NewEvaluation(EvaluationKey key, String regionNames, SetScore score, Outcomes outcomes,
+                                double wallSeconds) {
+        public NewEvaluation {
+            Objects.requireNonNull(key, "key");
+            Objects.requireNonNull(regionNames, "regionNames");
+            Objects.requireNonNull(score, "score");
+            Objects.requireNonNull(outcomes, "outcomes");
+            if (outcomes.size() != score.n()) {
+                throw new IllegalArgumentException("the score is over " + score.n() + " samples but the outcomes "
+                        + "hold " + outcomes.size());
+            }
+            if (!(wallSeconds >= 0) || Double.isInfinite(wallSeconds)) {
+                throw new IllegalArgumentException("wallSeconds must be finite and at least 0, found " + wallSeconds);
+            }
+        }
+    }
+
+    /** A stored evaluation: its row id, key, scores, per-sample outcomes and the wall time it took. */
+    public record Stored(long id, EvaluationKey key, SetScore score, Outcomes outcomes, double wallSeconds) {
+        public Stored {
+            Objects.requireNonNull(key, "key");
+            Objects.requireNonNull(score, "score");
+            Objects.requireNonNull(outcomes, "outcomes");
+        }
+    }
+
+    /** A run in this store and what it has paid for so far; read under the store's lock. */
+    public final class Run {
+        private final long id;
+        private final String runKey;
+        private final boolean resumed;
+        private boolean finished;
+        private final Set<EvaluationKey> paid = new HashSet<>();
+        private double spent;
+
+        private Run(long id, String runKey, boolean resumed, boolean finished) {
+            this.id = id;
+            this.runKey = runKey;
+            this.resumed = resumed;
+            this.finished = finished;
+        }
+
+        private ResultsStore store() {
+            return ResultsStore.this;
+        }
+
+        private void add(EvaluationKey key, double cost) {
+            paid.add(key);
+            spent += cost;
+        }
+
+        /** The row id in {@code runs}. */
+        public long id() {
+            return id;
+        }
+
+        /** The caller's key for the command. */
+        public String runKey() {
+            return runKey;
+        }
+
+        /** True when the run existed before {@link #beginOrResume} returned it. */
+        public boolean resumed() {
+            return resumed;
+        }
+
+        /** True when the run has been marked finished (by this session or an earlier one). */
+        public boolean finished() {
+            synchronized (lock) {
+                return finished;
+            }
+        }
+
+        /** The budget spent: the sum of the costs charged, in the order they were charged. */
+        public double spent() {
+            synchronized (lock) {
+                return spent;
+            }
+        }
+
+        /** Whether this run has already paid for {@code key}. */
+        public boolean paid(EvaluationKey key) {
+            synchronized (lock) {
+                return paid.contains(key);
+            }
+        }
+
+        /** The number of evaluations this run has paid for. */
+        public int count() {
+            synchronized (lock) {
+                return paid.size();
+            }
+        }
+
+        @Override
+        public String toString() {
+            return "run " + id + " '" + runKey + "'";
+        }
+    }
+
+    /** A results store that cannot be opened, read or written; the message names the file. */
+    public static final class StoreException extends RuntimeException {
+        private static final long serialVersionUID = 1L;
+        private final transient Path file;
+
+        /** A problem with {@code file}. */
+        public StoreException(Path file, String message) {
+            super(file + ": " + message);
+            this.file = file;
+        }
+
+        /** A problem with {@code file} caused by {@code cause}. */
+        public StoreException(Path file, String message, Throwable cause) {
+            super(file + ": " + message, cause);
+            this.file = file;
+        }
+
+        /** The store file. */
+        public Path file() {
+            return file;
+        }
+    }
+}
