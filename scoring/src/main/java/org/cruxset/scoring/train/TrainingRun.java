@@ -13,6 +13,8 @@ import org.cruxset.scoring.cohort.Cohort;
 import org.cruxset.scoring.cohort.Split;
 import org.cruxset.scoring.cohort.SubjectSplits;
 import org.cruxset.scoring.decoder.Decoder;
+import org.cruxset.scoring.decoder.InputBatch;
+import org.cruxset.scoring.lesion.ReferenceStats;
 import org.cruxset.scoring.decoder.InputMask;
 import org.cruxset.scoring.decoder.Preprocessing;
 import org.cruxset.scoring.eval.ModelInputs;
@@ -24,7 +26,8 @@ import org.cruxset.scoring.simulate.DecoderTruth;
 import org.cruxset.scoring.simulate.TruthFile;
 
 /**
- * Trains a decoder on a cohort, saves it as ONNX, loads the saved file back (so what is evaluated is what was
+ * Trains a decoder on a cohort, saves it as ONNX (with each region's mean and variance over the training split, the
+ * reference of the mean and noise lesion modes), loads the saved file back (so what is evaluated is what was
  * written) and scores it on the test split; where the cohort has a {@code truth.json}, adds the decoder's own
  * truth to it by lesioning every subset of the planted pool.
  */
@@ -57,6 +60,8 @@ public final class TrainingRun {
         meta.put("cruxset.training.config", config.toString());
         meta.put("cruxset.training.best_epoch", Integer.toString(trained.result().bestEpoch()));
         meta.put("cruxset.training.subjects", subjectsBySplit(split));
+        GruTrainer.Data trainData = ModelTraining.data(split, Split.TRAIN, pre, trained.classes());
+        meta.putAll(ReferenceStats.of(InputBatch.of(trainData.inputs(), trainData.series(), trainData.lengths())).toMetadata());
         byte[] bytes = OnnxGruWriter.write(trained.network(), trained.regions(), trained.classes(), pre, meta);
         try {
             Path parent = modelOut.toAbsolutePath().getParent();

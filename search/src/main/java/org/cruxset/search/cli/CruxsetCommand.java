@@ -13,7 +13,8 @@ import picocli.CommandLine.Command;
             "",
             "A virtual lesion of a decoder describes the decoder, not causal brain function. Results are not for clinical decisions."
         },
-        subcommands = {DemoCommand.class, SimulateCommand.class, TrainCommand.class, InfoCommand.class,
+        subcommands = {DemoCommand.class, SimulateCommand.class, TrainCommand.class, InfoCommand.class, ScoreCommand.class,
+            ExportCommand.class,
             CommandLine.HelpCommand.class})
 public final class CruxsetCommand implements Callable<Integer> {
     /** Exit code for bad input (files, options). */
@@ -49,6 +50,7 @@ public final class CruxsetCommand implements Callable<Integer> {
                 || ex instanceof org.cruxset.scoring.cohort.CohortFormatException
                 || ex instanceof org.cruxset.scoring.config.YamlConfig.ConfigException
                 || ex instanceof java.io.UncheckedIOException
+                || ex instanceof org.cruxset.scoring.store.ResultsStore.StoreException
                 || ex instanceof CommandLine.ParameterException;
     }
 

@@ -1,0 +1,249 @@
+package org.cruxset.scoring.eval;
+
+import java.util.ArrayList;
+import java.util.HashMap;
+import java.util.LinkedHashMap;
+import java.util.List;
+import java.util.Map;
+import java.util.Objects;
+import org.cruxset.scoring.decoder.Decoder;
+import org.cruxset.scoring.decoder.InputMask;
+import org.cruxset.scoring.decoder.LesionFill;
+import org.cruxset.scoring.lesion.LesionMode;
+import org.cruxset.scoring.lesion.RegionSet;
+import org.cruxset.scoring.store.EvaluationKey;
+import org.cruxset.scoring.store.ResultsStore;
+
+/**
+ * The one scorer every strategy spends its budget through. It scores lesion sets (in model input positions) on
+ * fixed held-out inputs under one lesion mode, keeps every score in the results store, and never pays twice: a set
+ * this run already paid for is replayed free; a set another run stored is charged to this run's budget (so
+ * strategies compare on equal budgets) but costs no decoder time; only the rest is decoded, in chunks that are
+ * committed as they finish, so a killed run loses at most the chunk in flight. Not thread-safe; it parallelises
+ * decoding itself.
+ */
+public final class LesionScorer {
+    /** Where a score came from. */
+    public enum Source {
+        /** Decoded now. */
+        DECODED,
+        /** Found in the store, made by another run: charged, no decoder time. */
+        STORED,
+        /** Already paid for by this run (earlier in it, or before a resume): free. */
+        REPLAYED
+    }
+
+    /** A scored set. */
+    public record Scored(RegionSet set, SetScore score, Outcomes outcomes, Source source) {
+    }
+
+    private final Decoder.Bound bound;
+    private final ModelInputs inputs;
+    private final String modelHash;
+    private final String dataHash;
+    private final String preprocessing;
+    private final LesionMode mode;
+    private final long modeSeed;
+    private final LesionFill fill;
+    private final ResultsStore store;
+    private final ResultsStore.Run run;
+    private final Budget budget;
+    private final int threads;
+    private final int chunk;
+    private final java.util.function.IntFunction<String> regionName;
+    private final Map<RegionSet, Scored> memo = new HashMap<>();
+    private int decoded;
+    private int stored;
+    private int replayed;
+
+    /**
+     * A scorer of {@code decoder} on {@code inputs}. {@code store} and {@code run} may both be null (no persistence);
+     * {@code regionName} names a model input for the store's human-readable columns.
+     */
+    public LesionScorer(Decoder decoder, ModelInputs inputs, LesionMode mode, long modeSeed, LesionFill fill,
+                        ResultsStore store, ResultsStore.Run run, Budget budget, int threads,
+                        java.util.function.IntFunction<String> regionName) {
+        Objects.requireNonNull(decoder, "decoder");
+        this.inputs = Objects.requireNonNull(inputs, "inputs");
+        this.bound = decoder.bind(inputs.batch());
+        this.modelHash = decoder.card().modelHash();
+        this.dataHash = DataHash.of(inputs);
+        this.preprocessing = decoder.card().preprocessing().label();
+        this.mode = Objects.requireNonNull(mode, "mode");
+        this.modeSeed = modeSeed;
+        this.fill = Objects.requireNonNull(fill, "fill");
+        if ((store == null) != (run == null)) {
+            throw new IllegalArgumentException("store and run must both be given or both be null");
+        }
+        this.store = store;
+        this.run = run;
+        this.budget = Objects.requireNonNull(budget, "budget");
+        this.threads = threads;
+        this.chunk = Math.max(1, Math.min(64, 4 * threads));
+        this.regionName = Objects.requireNonNull(regionName, "regionName");
+        if (store != null) {
+            store.registerDataset(dataHash, inputs.sampleIds(), inputs.subjects(), labelNames());
+        }
+    }
+
+    private List<String> labelNames() {
+        List<String> out = new ArrayList<>();
+        for (int s = 0; s < inputs.size(); s++) {
+            out.add(inputs.classLabels().get(inputs.label(s)));
+        }
+        return out;
+    }
+
+    /** The key of a set under this scorer's model, data and mode. */
+    public EvaluationKey key(RegionSet set) {
+        return new EvaluationKey(modelHash, dataHash, preprocessing, mode, modeSeed, set);
+    }
+
+    /** SHA-256 of the scored data. */
+    public String dataHash() {
+        return dataHash;
+    }
+
+    /** The scored inputs. */
+    public ModelInputs inputs() {
+        return inputs;
+    }
+
+    public Budget budget() {
+        return budget;
+    }
+
+    /** Sets decoded by this scorer. */
+    public int decodedCount() {
+        return decoded;
+    }
+
+    /** Sets found in the store from other runs. */
+    public int storedCount() {
+        return stored;
+    }
+
+    /** Sets this run had already paid for. */
+    public int replayedCount() {
+        return replayed;
+    }
+
+    /** Scores one set. */
+    public Scored score(RegionSet set) {
+        return score(List.of(set)).get(0);
+    }
+
+    /**
+     * Scores {@code sets} (in order; duplicates allowed); fails before decoding anything when the sets this run has
+     * not yet paid for do not fit the budget.
+     */
+    public List<Scored> score(List<RegionSet> sets) {
+        Map<RegionSet, Scored> result = new HashMap<>();
+        List<RegionSet> unknown = new ArrayList<>();
+        for (RegionSet s : sets) {
+            if (s.universe() != inputs.batch().regions()) {
+                throw new IllegalArgumentException("set over " + s.universe() + " regions, the model takes "
+                        + inputs.batch().regions());
+            }
+            Scored m = memo.get(s);
+            if (m != null) {
+                result.put(s, replay(m));
+            } else if (!result.containsKey(s) && !unknown.contains(s)) {
+                unknown.add(s);
+            }
+        }
+        if (!unknown.isEmpty()) {
+            Map<EvaluationKey, RegionSet> byKey = new LinkedHashMap<>();
+            for (RegionSet s : unknown) {
+                byKey.put(key(s), s);
+            }
+            Map<EvaluationKey, ResultsStore.Stored> found = store == null ? Map.of() : store.lookup(byKey.keySet());
+            List<EvaluationKey> reusedKeys = new ArrayList<>();
+            List<RegionSet> toDecode = new ArrayList<>();
+            double cost = 0;
+            for (Map.Entry<EvaluationKey, RegionSet> e : byKey.entrySet()) {
+                ResultsStore.Stored st = found.get(e.getKey());
+                boolean paid = st != null && run.paid(e.getKey());
+                if (!paid) {
+                    cost += 1.0;
+                }
+                if (st == null) {
+                    toDecode.add(e.getValue());
+                }
+            }
+            if (!budget.allows(cost)) {
+                throw new IllegalStateException("budget exhausted: " + budget.spent() + " of " + budget.limit()
+                        + " scored sets spent, " + cost + " more needed");
+            }
+            for (Map.Entry<EvaluationKey, RegionSet> e : byKey.entrySet()) {
+                ResultsStore.Stored st = found.get(e.getKey());
+                if (st == null) {
+                    continue;
+                }
+                Source src = run.paid(e.getKey()) ? Source.REPLAYED : Source.STORED;
+                if (src == Source.STORED) {
+                    reusedKeys.add(e.getKey());
+                    budget.charge(1.0);
+                    stored++;
+                } else {
+                    replayed++;
+                }
+                Scored sc = new Scored(e.getValue(), st.score(), st.outcomes(), src);
+                memo.put(e.getValue(), sc);
+                result.put(e.getValue(), sc);
+            }
+            if (!reusedKeys.isEmpty()) {
+                store.record(run, List.of(), reusedKeys, 1.0);
+            }
+            for (int start = 0; start < toDecode.size(); start += chunk) {
+                List<RegionSet> part = toDecode.subList(start, Math.min(toDecode.size(), start + chunk));
+                decodeChunk(part, result);
+            }
+        }
+        List<Scored> out = new ArrayList<>(sets.size());
+        for (RegionSet s : sets) {
+            out.add(result.get(s));
+        }
+        return out;
+    }
+
+    private Scored replay(Scored m) {
+        return m.source() == Source.REPLAYED ? m : new Scored(m.set(), m.score(), m.outcomes(), Source.REPLAYED);
+    }
+
+    private void decodeChunk(List<RegionSet> part, Map<RegionSet, Scored> result) {
+        List<InputMask> masks = new ArrayList<>(part.size());
+        for (RegionSet s : part) {
+            masks.add(new InputMask(s, fill));
+        }
+        long t0 = System.nanoTime();
+        float[][][] probs = bound.probabilities(masks, threads);
+        double wall = (System.nanoTime() - t0) / 1e9 / part.size();
+        int[] labels = inputs.labels();
+        List<ResultsStore.NewEvaluation> fresh = new ArrayList<>();
+        for (int i = 0; i < part.size(); i++) {
+            RegionSet s = part.get(i);
+            Outcomes o = Outcomes.of(probs[i], labels);
+            SetScore sc = SetScore.of(o, labels, inputs.classLabels().size());
+            Scored scored = new Scored(s, sc, o, Source.DECODED);
+            memo.put(s, scored);
+            result.put(s, scored);
+            budget.charge(1.0);
+            decoded++;
+            if (store != null) {
+                fresh.add(new ResultsStore.NewEvaluation(key(s), names(s), sc, o, wall));
+            }
+        }
+        if (store != null) {
+            store.record(run, fresh, List.of(), 1.0);
+        }
+    }
+
+    private String names(RegionSet s) {
+        StringBuilder sb = new StringBuilder();
+        for (int p : s.positions()) {
+            sb.append(sb.length() == 0 ? "" : ",").append(regionName.apply(p));
+        }
+        return sb.toString();
+    }
+}
