@@ -82,16 +82,8 @@ public final class LesionScorer {
         this.chunk = Math.max(1, Math.min(64, 4 * threads));
         this.regionName = Objects.requireNonNull(regionName, "regionName");
         if (store != null) {
-            store.registerDataset(dataHash, inputs.sampleIds(), inputs.subjects(), labelNames());
+            store.registerDataset(dataHash, inputs);
         }
-    }
-
-    private List<String> labelNames() {
-        List<String> out = new ArrayList<>();
-        for (int s = 0; s < inputs.size(); s++) {
-            out.add(inputs.classLabels().get(inputs.label(s)));
-        }
-        return out;
     }
 
     /** The key of a set under this scorer's model, data and mode. */
