@@ -1,0 +1,111 @@
+package org.cruxset.tests;
+
+import static org.junit.jupiter.api.Assertions.assertEquals;
+import static org.junit.jupiter.api.Assertions.assertTrue;
+
+import java.nio.file.Files;
+import java.nio.file.Path;
+import java.sql.Connection;
+import java.sql.DriverManager;
+import java.sql.ResultSet;
+import java.sql.SQLException;
+import java.sql.Statement;
+import java.util.ArrayList;
+import java.util.List;
+import java.util.SplittableRandom;
+import java.util.concurrent.TimeUnit;
+import org.junit.jupiter.api.Test;
+import org.junit.jupiter.api.io.TempDir;
+
+/** A scoring run killed with SIGKILL mid-way resumes with the same command, loses nothing and duplicates nothing. */
+class KillResumeTest {
+    private static final int SETS = 400;
+    private static final int KILL_AT = 60;
+
+    private static List<String> args(Path out) {
+        List<String> a = new ArrayList<>(List.of("score", "--model", ScoreCommandTest.MODEL, "--cohort",
+                ScoreCommandTest.COHORT, "--out", out.toString(), "--threads", "1", "--bootstrap", "0"));
+        SplittableRandom rng = new SplittableRandom(42);
+        for (int i = 0; i < SETS; i++) {
+            a.add("--lesion");
+            a.add((1 + rng.nextInt(100)) + "," + (1 + rng.nextInt(100)) + "," + (1 + rng.nextInt(100)));
+        }
+        return a;
+    }
+
+    private static long count(Path db, String sql) throws SQLException {
+        try (Connection c = DriverManager.getConnection("jdbc:sqlite:" + db);
+             Statement st = c.createStatement();
+             ResultSet rs = st.executeQuery(sql)) {
+            return rs.next() ? rs.getLong(1) : 0;
+        }
+    }
+
+    @Test
+    void killedRunResumesWithIdenticalResultsAndNoDuplicates(@TempDir Path dir) throws Exception {
+        Path killed = dir.resolve("killed");
+        Path db = killed.resolve("results.sqlite");
+        List<String> cmd = new ArrayList<>(List.of(Path.of(System.getProperty("java.home"), "bin", "java").toString(),
+                "-cp", System.getProperty("java.class.path"), "org.cruxset.search.cli.CruxsetCommand"));
+        cmd.addAll(args(killed));
+        Process child = new ProcessBuilder(cmd).redirectErrorStream(true)
+                .redirectOutput(dir.resolve("child.log").toFile()).start();
+        long deadline = System.nanoTime() + TimeUnit.SECONDS.toNanos(120);
+        long seen = 0;
+        while (System.nanoTime() < deadline && child.isAlive()) {
+            if (Files.exists(db)) {
+                try {
+                    seen = count(db, "SELECT COUNT(*) FROM evaluations");
+                } catch (SQLException busyOrNotYetCreated) {
+                    seen = 0;
+                }
+                if (seen >= KILL_AT) {
+                    break;
+                }
+            }
+            Thread.sleep(10);
+        }
+        assertTrue(child.isAlive(), "the child must still be running when killed (saw " + seen + " rows); log: "
+                + Files.readString(dir.resolve("child.log")));
+        child.destroyForcibly();
+        assertTrue(child.waitFor(30, TimeUnit.SECONDS));
+        assertEquals(137, child.exitValue(), "killed by SIGKILL");
+        long afterKill = count(db, "SELECT COUNT(*) FROM evaluations");
+        assertTrue(afterKill >= seen && afterKill < SETS + 1, "rows after the kill: " + afterKill);
+
+        Cli.Run resumed = Cli.run(args(killed).toArray(String[]::new)).requireSuccess();
+        assertTrue(resumed.out().contains("already paid by this run"), resumed.out());
+        Cli.Run clean = Cli.run(args(dir.resolve("clean")).toArray(String[]::new)).requireSuccess();
+
+        assertEquals(tableOf(clean.out()), tableOf(resumed.out()), "resumed results equal an uninterrupted run's");
+        long distinctSets = count(db, "SELECT COUNT(DISTINCT set_hex) FROM evaluations");
+        assertEquals(distinctSets, count(db, "SELECT COUNT(*) FROM evaluations"), "no duplicate evaluations");
+        assertEquals(count(dir.resolve("clean").resolve("results.sqlite"), "SELECT COUNT(*) FROM evaluations"), distinctSets);
+        assertEquals(1, count(db, "SELECT COUNT(*) FROM runs"), "the same command resumed the same run");
+        assertEquals(distinctSets, count(db, "SELECT COUNT(*) FROM run_evaluations"), "each set paid once");
+        assertEquals("finished", stringOf(db, "SELECT status FROM runs"));
+    }
+
+    private static String stringOf(Path db, String sql) throws SQLException {
+        try (Connection c = DriverManager.getConnection("jdbc:sqlite:" + db);
+             Statement st = c.createStatement();
+             ResultSet rs = st.executeQuery(sql)) {
+            return rs.next() ? rs.getString(1) : null;
+        }
+    }
+
+    private static List<String> tableOf(String out) {
+        List<String> rows = new ArrayList<>();
+        boolean in = false;
+        for (String line : out.split("\n")) {
+            if (line.startsWith("lesion ")) {
+                in = true;
+            } else if (in && line.isBlank()) {
+                break;
+            } else if (in) {
+                rows.add(line);
+            }
+        }
+        return rows;
+    }
+}
