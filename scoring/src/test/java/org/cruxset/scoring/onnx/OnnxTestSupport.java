@@ -1,5 +1,7 @@
 package org.cruxset.scoring.onnx;
 
+import org.cruxset.scoring.testing.RandomModels;
+
 import ai.onnx.proto.OnnxMl.AttributeProto;
 import ai.onnx.proto.OnnxMl.GraphProto;
 import ai.onnx.proto.OnnxMl.ModelProto;
@@ -30,35 +32,12 @@ final class OnnxTestSupport {
 
     /** A random network with weights uniform in [-scale, scale]. */
     static GruNetwork randomNetwork(Random rng, int inputs, int[] hidden, boolean[] lbr, int classes, double scale) {
-        List<GruLayer> layers = new ArrayList<>();
-        int in = inputs;
-        for (int i = 0; i < hidden.length; i++) {
-            int h = hidden[i];
-            layers.add(new GruLayer(in, h, uniform(rng, 3 * h * in, scale), uniform(rng, 3 * h * h, scale),
-                    uniform(rng, 3 * h, scale), uniform(rng, 3 * h, scale), lbr[i]));
-            in = h;
-        }
-        return new GruNetwork(layers, classes, uniform(rng, classes * in, 2 * scale), uniform(rng, classes, scale));
-    }
-
-    static float[] uniform(Random rng, int n, double scale) {
-        float[] v = new float[n];
-        for (int i = 0; i < n; i++) {
-            v[i] = (float) ((2 * rng.nextDouble() - 1) * scale);
-        }
-        return v;
+        return RandomModels.randomNetwork(rng, inputs, hidden, lbr, classes, scale);
     }
 
     /** A batch of standard normal samples with the given lengths. */
     static InputBatch randomBatch(Random rng, int regions, int[] lengths) {
-        float[][] series = new float[lengths.length][];
-        for (int s = 0; s < lengths.length; s++) {
-            series[s] = new float[lengths[s] * regions];
-            for (int i = 0; i < series[s].length; i++) {
-                series[s][i] = (float) rng.nextGaussian();
-            }
-        }
-        return InputBatch.of(regions, series, lengths);
+        return RandomModels.randomBatch(rng, regions, lengths);
     }
 
     static Path save(Path dir, String name, byte[] bytes) {
