@@ -47,5 +47,7 @@ class BinomialTest {
     void upperTailAnalyticValue() {
         assertEquals(Math.pow(2, -10), Binomial.pValueAtLeast(10, 10, 0.5), 1e-15);
         assertEquals(1.0, Binomial.pValueAtLeast(0, 10, 0.5), 0.0);
+        // P(X >= 9) = (C(10,9) + C(10,10)) / 2^10 = 11/1024
+        assertEquals(11.0 / 1024, Binomial.pValueAtLeast(9, 10, 0.5), 1e-15);
     }
 }
