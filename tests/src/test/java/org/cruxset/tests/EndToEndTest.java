@@ -13,7 +13,7 @@ import org.cruxset.scoring.decoder.Decoder;
 import org.cruxset.scoring.decoder.InputMask;
 import org.cruxset.scoring.eval.HeldOut;
 import org.cruxset.scoring.eval.ModelInputs;
-import org.cruxset.scoring.eval.QuickScore;
+import org.cruxset.scoring.eval.SetScore;
 import org.cruxset.scoring.lesion.RegionSet;
 import org.cruxset.scoring.onnx.OnnxModels;
 import org.cruxset.scoring.onnx.OnnxOptions;
@@ -43,7 +43,7 @@ class EndToEndTest {
                 "--hidden", "24", "--threads", "2").requireSuccess();
     }
 
-    private record Scored(ModelInputs inputs, List<QuickScore> scores) {
+    private record Scored(ModelInputs inputs, List<SetScore> scores) {
     }
 
     private static Scored score(List<List<String>> sets, OnnxOptions.Engine engine) {
@@ -56,9 +56,9 @@ class EndToEndTest {
                 masks.add(InputMask.zero(RegionSet.of(d.card().regions(), pos)));
             }
             float[][][] probs = d.bind(in.batch()).probabilities(masks, 2);
-            List<QuickScore> out = new ArrayList<>();
+            List<SetScore> out = new ArrayList<>();
             for (float[][] p : probs) {
-                out.add(QuickScore.of(QuickScore.countCorrect(p, in), in.size(), in.chance()));
+                out.add(SetScore.of(p, in));
             }
             return new Scored(in, out);
         }
@@ -67,7 +67,7 @@ class EndToEndTest {
     @Test
     void trainedDecoderIsWellAboveChanceOnUnseenSubjects() {
         Scored s = score(List.of(List.of()), OnnxOptions.Engine.AUTO);
-        QuickScore intact = s.scores().get(0);
+        SetScore intact = s.scores().get(0);
         assertTrue(intact.n() >= 200, "the CI cohort must give at least 200 test samples, found " + intact.n());
         assertEquals(1.0 / 6, intact.chance(), 1e-12, "balanced classes: chance is 1/K");
         assertTrue(intact.accuracy() >= 3 * intact.chance(),
@@ -86,8 +86,8 @@ class EndToEndTest {
         assertTrue(decoys.size() >= set.size(), "the power control needs as many decoys as the critical set has regions");
         List<String> control = decoys.subList(0, set.size());
         Scored s = score(List.of(set, control), OnnxOptions.Engine.AUTO);
-        QuickScore lesioned = s.scores().get(0);
-        QuickScore decoyLesion = s.scores().get(1);
+        SetScore lesioned = s.scores().get(0);
+        SetScore decoyLesion = s.scores().get(1);
         assertTrue(lesioned.accuracy() <= lesioned.chance() + 0.05,
                 "lesioning " + set + " leaves accuracy " + lesioned.accuracy() + ", above chance + 0.05");
         assertTrue(lesioned.pValue() >= ALPHA, "lesioning " + set + " should not be significantly above chance, p = " + lesioned.pValue());

@@ -19,7 +19,7 @@ import org.junit.jupiter.api.io.TempDir;
 
 /** A scoring run killed with SIGKILL mid-way resumes with the same command, loses nothing and duplicates nothing. */
 class KillResumeTest {
-    private static final int SETS = 400;
+    private static final int SETS = 1000;
     private static final int KILL_AT = 60;
 
     private static List<String> args(Path out) {

@@ -133,17 +133,4 @@ public record ModelInputs(InputBatch batch, int[] labels, List<String> sampleIds
     public int size() {
         return labels.length;
     }
-
-    /** The majority-class rate of these samples: the chance level of accuracy. */
-    public double chance() {
-        int[] counts = new int[classLabels.size()];
-        for (int l : labels) {
-            counts[l]++;
-        }
-        int max = 0;
-        for (int c : counts) {
-            max = Math.max(max, c);
-        }
-        return labels.length == 0 ? 0 : (double) max / labels.length;
-    }
 }

@@ -19,6 +19,12 @@ public record SetScore(int n, int correct, double accuracy, double balancedAccur
         return perClassAccuracy.clone();
     }
 
+    /** Scores class probabilities {@code probs[s][k]} of the samples of {@code inputs}. */
+    public static SetScore of(float[][] probs, ModelInputs inputs) {
+        int[] labels = inputs.labels();
+        return of(Outcomes.of(probs, labels), labels, inputs.classLabels().size());
+    }
+
     /** Scores {@code outcomes} against {@code labels} (class indices) of {@code classes} classes. */
     public static SetScore of(Outcomes outcomes, int[] labels, int classes) {
         int n = outcomes.size();

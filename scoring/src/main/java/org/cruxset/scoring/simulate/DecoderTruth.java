@@ -5,7 +5,8 @@ import java.util.List;
 import org.cruxset.scoring.decoder.Decoder;
 import org.cruxset.scoring.decoder.InputMask;
 import org.cruxset.scoring.eval.ModelInputs;
-import org.cruxset.scoring.eval.QuickScore;
+import org.cruxset.scoring.eval.CollapseCriterion;
+import org.cruxset.scoring.eval.SetScore;
 import org.cruxset.scoring.lesion.RegionSet;
 
 /**
@@ -13,7 +14,7 @@ import org.cruxset.scoring.lesion.RegionSet;
  * zeros and scored on held-out samples; a set is critical when its accuracy is not significantly above chance
  * (one-sided exact binomial at level {@code alpha}).
  */
-public record DecoderTruth(List<String> pool, double alpha, QuickScore intact, List<Entry> sets,
+public record DecoderTruth(List<String> pool, double alpha, SetScore intact, List<Entry> sets,
                            List<List<String>> minimumCriticalSets, List<List<String>> inclusionMinimalCriticalSets) {
     public DecoderTruth {
         pool = List.copyOf(pool);
@@ -23,7 +24,7 @@ public record DecoderTruth(List<String> pool, double alpha, QuickScore intact, L
     }
 
     /** One lesioned subset of the pool and its score. */
-    public record Entry(List<String> regions, QuickScore score, boolean critical) {
+    public record Entry(List<String> regions, SetScore score, boolean critical) {
         public Entry {
             regions = List.copyOf(regions);
         }
@@ -52,20 +53,20 @@ public record DecoderTruth(List<String> pool, double alpha, QuickScore intact, L
             masks.add(InputMask.zero(set));
         }
         Decoder.Bound bound = decoder.bind(inputs.batch());
-        double chance = inputs.chance();
-        QuickScore[] scores = new QuickScore[count];
+        SetScore[] scores = new SetScore[count];
         int chunk = 64;
         for (int start = 0; start < count; start += chunk) {
             int end = Math.min(count, start + chunk);
             float[][][] probs = bound.probabilities(masks.subList(start, end), threads);
             for (int m = start; m < end; m++) {
-                scores[m] = QuickScore.of(QuickScore.countCorrect(probs[m - start], inputs), inputs.size(), chance);
+                scores[m] = SetScore.of(probs[m - start], inputs);
             }
         }
+        CollapseCriterion criterion = new CollapseCriterion(CollapseCriterion.Kind.BINOMIAL, alpha);
         boolean[] critical = new boolean[count];
         List<Entry> entries = new ArrayList<>();
         for (int bits = 0; bits < count; bits++) {
-            critical[bits] = scores[bits].atChance(alpha);
+            critical[bits] = criterion.critical(scores[bits], scores[0]);
             entries.add(new Entry(names(pool, bits), scores[bits], critical[bits]));
         }
         int minSize = Integer.MAX_VALUE;

@@ -11,7 +11,7 @@ import java.nio.file.Files;
 import java.nio.file.Path;
 import java.util.ArrayList;
 import java.util.List;
-import org.cruxset.scoring.eval.QuickScore;
+import org.cruxset.scoring.eval.SetScore;
 
 /**
  * {@code truth.json} beside a simulated cohort: the designed structure written by the simulator, and the trained
@@ -78,7 +78,7 @@ public final class TruthFile {
         for (DecoderTruth.Entry e : t.sets()) {
             ObjectNode o = all.addObject();
             strings(o.putArray("regions"), e.regions());
-            QuickScore q = e.score();
+            SetScore q = e.score();
             o.put("accuracy", q.accuracy());
             o.put("correct", q.correct());
             o.put("p_value", q.pValue());

@@ -18,7 +18,7 @@ import org.cruxset.scoring.lesion.ReferenceStats;
 import org.cruxset.scoring.decoder.InputMask;
 import org.cruxset.scoring.decoder.Preprocessing;
 import org.cruxset.scoring.eval.ModelInputs;
-import org.cruxset.scoring.eval.QuickScore;
+import org.cruxset.scoring.eval.SetScore;
 import org.cruxset.scoring.onnx.OnnxGruWriter;
 import org.cruxset.scoring.onnx.OnnxModels;
 import org.cruxset.scoring.onnx.OnnxOptions;
@@ -36,7 +36,7 @@ public final class TrainingRun {
     }
 
     /** What a training run produced. */
-    public record Summary(Path model, TrainingResult training, QuickScore test, DecoderTruth truth, String modelHash,
+    public record Summary(Path model, TrainingResult training, SetScore test, DecoderTruth truth, String modelHash,
                           int trainSamples, int validationSamples, int testSamples) {
     }
 
@@ -74,7 +74,7 @@ public final class TrainingRun {
             ModelInputs test = ModelInputs.prepare(decoder.card(), split.atlas(), split.split(Split.TEST));
             float[][][] probs = decoder.bind(test.batch()).probabilities(List.of(InputMask.none(test.batch().regions())),
                     config.threads());
-            QuickScore score = QuickScore.of(QuickScore.countCorrect(probs[0], test), test.size(), test.chance());
+            SetScore score = SetScore.of(probs[0], test);
             DecoderTruth truth = null;
             if (truthFile != null && Files.isRegularFile(truthFile)) {
                 List<String> pool = TruthFile.pool(truthFile);

@@ -12,7 +12,8 @@ import org.cruxset.scoring.decoder.Decoder;
 import org.cruxset.scoring.decoder.InputMask;
 import org.cruxset.scoring.eval.HeldOut;
 import org.cruxset.scoring.eval.ModelInputs;
-import org.cruxset.scoring.eval.QuickScore;
+import org.cruxset.scoring.eval.CollapseCriterion;
+import org.cruxset.scoring.eval.SetScore;
 import org.cruxset.scoring.internal.Parallel;
 import org.cruxset.scoring.lesion.RegionSet;
 import org.cruxset.scoring.onnx.OnnxModels;
@@ -67,17 +68,18 @@ public final class DemoCommand implements Callable<Integer> {
             List<String> control = decoys.subList(0, Math.min(decoys.size(), set.size()));
             List<InputMask> masks = List.of(InputMask.none(in.batch().regions()), mask(decoder, set), mask(decoder, control));
             float[][][] probs = decoder.bind(in.batch()).probabilities(masks, t);
-            List<QuickScore> scores = new ArrayList<>();
+            List<SetScore> scores = new ArrayList<>();
             for (float[][] p : probs) {
-                scores.add(QuickScore.of(QuickScore.countCorrect(p, in), in.size(), in.chance()));
+                scores.add(SetScore.of(p, in));
             }
+            CollapseCriterion crit = new CollapseCriterion(CollapseCriterion.Kind.BINOMIAL, alpha);
             pw.println();
             Reports.score(pw, "Intact decoder on the " + held.description(), scores.get(0));
             Reports.score(pw, "Lesion " + set + " (a minimal critical set of this decoder)", scores.get(1));
-            pw.printf("  -> %s at alpha %.2f%n", scores.get(1).atChance(alpha) ? "CRITICAL: accuracy not significantly above chance"
+            pw.printf("  -> %s at alpha %.2f%n", crit.critical(scores.get(1), scores.get(0)) ? "CRITICAL: accuracy not significantly above chance"
                     : "not critical", alpha);
             Reports.score(pw, "Lesion " + control + " (as many decoy regions, the control)", scores.get(2));
-            pw.printf("  -> %s at alpha %.2f%n", scores.get(2).atChance(alpha) ? "CRITICAL" : "not critical: decoding survives", alpha);
+            pw.printf("  -> %s at alpha %.2f%n", crit.critical(scores.get(2), scores.get(0)) ? "CRITICAL" : "not critical: decoding survives", alpha);
             pw.printf("%nAll %d critical sets of minimum size: %s%n", critical.size(), critical);
         }
         return 0;

@@ -8,7 +8,7 @@ import org.cruxset.scoring.decoder.Decoder;
 import org.cruxset.scoring.decoder.InputMask;
 import org.cruxset.scoring.eval.HeldOut;
 import org.cruxset.scoring.eval.ModelInputs;
-import org.cruxset.scoring.eval.QuickScore;
+import org.cruxset.scoring.eval.SetScore;
 import picocli.CommandLine.ArgGroup;
 import picocli.CommandLine.Command;
 import picocli.CommandLine.Mixin;
@@ -42,7 +42,7 @@ public final class InfoCommand implements Callable<Integer> {
             HeldOut held = HeldOut.of(c, decoder.card());
             ModelInputs in = ModelInputs.prepare(decoder.card(), c.atlas(), held.samples());
             float[][][] probs = decoder.bind(in.batch()).probabilities(List.of(InputMask.none(in.batch().regions())), model.threads());
-            QuickScore q = QuickScore.of(QuickScore.countCorrect(probs[0], in), in.size(), in.chance());
+            SetScore q = SetScore.of(probs[0], in);
             Reports.score(pw, "Held-out " + held.description(), q);
         }
         return 0;

@@ -7,7 +7,7 @@ import org.cruxset.scoring.cohort.Cohort;
 import org.cruxset.scoring.cohort.Sample;
 import org.cruxset.scoring.cohort.Split;
 import org.cruxset.scoring.decoder.ModelCard;
-import org.cruxset.scoring.eval.QuickScore;
+import org.cruxset.scoring.eval.SetScore;
 
 /** Plain-text summaries printed by several commands. */
 final class Reports {
@@ -50,7 +50,7 @@ final class Reports {
         pw.printf("  sha256: %s%n", card.modelHash());
     }
 
-    static void score(PrintWriter pw, String what, QuickScore q) {
+    static void score(PrintWriter pw, String what, SetScore q) {
         pw.printf("%s: accuracy %.3f (95%% Wilson %.3f-%.3f), %d of %d correct; chance %.3f (majority class); "
                         + "one-sided exact binomial p = %.3g%n",
                 what, q.accuracy(), q.wilsonLow(), q.wilsonHigh(), q.correct(), q.n(), q.chance(), q.pValue());

@@ -6,7 +6,7 @@ import java.util.concurrent.Callable;
 import org.cruxset.scoring.cohort.Cohort;
 import org.cruxset.scoring.cohort.CohortFiles;
 import org.cruxset.scoring.decoder.Preprocessing;
-import org.cruxset.scoring.eval.QuickScore;
+import org.cruxset.scoring.eval.SetScore;
 import org.cruxset.scoring.internal.Parallel;
 import org.cruxset.scoring.simulate.DecoderTruth;
 import org.cruxset.scoring.simulate.TruthFile;
@@ -86,7 +86,7 @@ public final class TrainCommand implements Callable<Integer> {
         pw.printf("Trained on %d samples (validation %d); best epoch %d of %d run.%n", s.trainSamples(),
                 s.validationSamples(), s.training().bestEpoch(), s.training().epochs().size());
         pw.printf("Saved %s (sha256 %s)%n", s.model(), s.modelHash());
-        QuickScore q = s.test();
+        SetScore q = s.test();
         pw.printf("Test accuracy %.3f (95%% Wilson %.3f-%.3f, n = %d); chance %.3f (majority class); p = %.3g%n",
                 q.accuracy(), q.wilsonLow(), q.wilsonHigh(), q.n(), q.chance(), q.pValue());
         DecoderTruth tr = s.truth();
