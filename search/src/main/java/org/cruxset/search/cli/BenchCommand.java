@@ -1,0 +1,316 @@
+package org.cruxset.search.cli;
+
+import java.io.IOException;
+import java.io.PrintWriter;
+import java.io.UncheckedIOException;
+import java.nio.file.Files;
+import java.nio.file.Path;
+import java.util.ArrayList;
+import java.util.List;
+import java.util.Locale;
+import java.util.Map;
+import java.util.SplittableRandom;
+import java.util.concurrent.Callable;
+import org.cruxset.scoring.decoder.Decoder;
+import org.cruxset.scoring.decoder.InputBatch;
+import org.cruxset.scoring.decoder.InputMask;
+import org.cruxset.scoring.decoder.Preprocessing;
+import org.cruxset.scoring.gru.GruLayer;
+import org.cruxset.scoring.gru.GruNetwork;
+import org.cruxset.scoring.gru.NativeGruDecoder;
+import org.cruxset.scoring.internal.Parallel;
+import org.cruxset.scoring.lesion.RegionSet;
+import org.cruxset.scoring.onnx.OnnxGruWriter;
+import org.cruxset.scoring.onnx.OnnxModels;
+import org.cruxset.scoring.onnx.OnnxOptions;
+import org.cruxset.scoring.onnx.OnnxOptions.Engine;
+import picocli.CommandLine.Command;
+import picocli.CommandLine.Model.CommandSpec;
+import picocli.CommandLine.Option;
+import picocli.CommandLine.Spec;
+
+/** {@code cruxset bench}: scored lesion sets per second of the native engine and of ONNX Runtime on one workload. */
+@Command(name = "bench", mixinStandardHelpOptions = true,
+        description = {
+            "Measure scored lesion sets per second of Cruxset's own GRU engine and of ONNX Runtime on a reference workload: "
+                + "a random GRU classifier written as ONNX and loaded by both engines, random inputs and random zero-fill "
+                + "lesion sets. A scored set is one set decoded on every sample.",
+            "",
+            "ONNX Runtime is measured as loaded with --threads intra-op threads and, with more than one thread, also with one "
+                + "intra-op thread per run (runs spread over --threads callers); the ratio is against the faster of the two. "
+                + "The engines alternate in rounds so that background load affects both alike."
+        })
+public final class BenchCommand implements Callable<Integer> {
+    /** Lesion sets per probabilities call. */
+    static final int SETS_PER_CALL = 4;
+    /** Measuring rounds per engine, alternating between the engines. */
+    static final int ROUNDS = 4;
+    /** Most sets whose probabilities are kept for the comparison of the engines. */
+    static final int KEPT_SETS = 1000;
+    /** Least warm-up wall time per engine, in seconds. */
+    static final double WARMUP_SECONDS = 3;
+
+    @Spec
+    CommandSpec spec;
+
+    @Option(names = "--seconds", paramLabel = "S", defaultValue = "20",
+            description = "Measured wall time per engine (unless --sets is given). Default: ${DEFAULT-VALUE}.")
+    double seconds;
+
+    @Option(names = "--sets", paramLabel = "N", defaultValue = "0",
+            description = "Measure this many sets per engine instead of a wall time (0: use --seconds). Default: ${DEFAULT-VALUE}.")
+    int sets;
+
+    @Option(names = "--samples", paramLabel = "N", defaultValue = "660", description = "Samples scored per set. Default: ${DEFAULT-VALUE}.")
+    int samples;
+
+    @Option(names = "--regions", paramLabel = "N", defaultValue = "300", description = "Input regions. Default: ${DEFAULT-VALUE}.")
+    int regions;
+
+    @Option(names = "--hidden", paramLabel = "H", defaultValue = "128", description = "GRU hidden size. Default: ${DEFAULT-VALUE}.")
+    int hidden;
+
+    @Option(names = "--steps", paramLabel = "T", defaultValue = "200", description = "Time points per sample. Default: ${DEFAULT-VALUE}.")
+    int steps;
+
+    @Option(names = "--classes", paramLabel = "K", defaultValue = "15", description = "Classes. Default: ${DEFAULT-VALUE}.")
+    int classes;
+
+    @Option(names = "--lesion-size", paramLabel = "N", defaultValue = "10", description = "Regions per lesion set. Default: ${DEFAULT-VALUE}.")
+    int lesionSize;
+
+    @Option(names = "--seed", paramLabel = "SEED", defaultValue = "1", description = "Seed of weights, inputs and sets. Default: ${DEFAULT-VALUE}.")
+    long seed;
+
+    @Option(names = "--threads", paramLabel = "N", description = "Worker threads of both engines (default: all cores).")
+    Integer threads;
+
+    @Override
+    public Integer call() {
+        validate();
+        PrintWriter out = spec.commandLine().getOut();
+        int nThreads = threads == null ? Parallel.defaultThreads() : threads;
+        SplittableRandom rng = new SplittableRandom(seed);
+        GruNetwork net = network(rng);
+        InputBatch batch = inputs(rng);
+        List<String> labels = new ArrayList<>();
+        for (int k = 0; k < classes; k++) {
+            labels.add("class" + k);
+        }
+        out.printf(Locale.ROOT, "Workload: %d samples x %d steps x %d regions; 1 GRU layer of %d units "
+                + "(linear_before_reset 1); %d classes; seed %d%n", samples, steps, regions, hidden, classes, seed);
+        out.printf(Locale.ROOT, "Lesion sets: %d regions drawn at random, zero fill, %d sets per call on %d thread%s%n",
+                lesionSize, SETS_PER_CALL, nThreads, nThreads == 1 ? "" : "s");
+        Path file;
+        try {
+            file = Files.createTempFile("cruxset-bench-", ".onnx");
+            Files.write(file, OnnxGruWriter.write(net, List.of(), labels, Preprocessing.NONE, Map.of()));
+        } catch (IOException e) {
+            throw new UncheckedIOException("cannot write the benchmark model: " + e.getMessage(), e);
+        }
+        OnnxOptions options = OnnxOptions.defaults().withThreads(nThreads);
+        try (Decoder nat = OnnxModels.load(file, options.withEngine(Engine.NATIVE));
+             Decoder ort = OnnxModels.load(file, options.withEngine(Engine.ONNXRUNTIME));
+             Decoder ort1 = nThreads > 1 ? OnnxModels.load(file, options.withEngine(Engine.ONNXRUNTIME).withThreads(1)) : null) {
+            if (nat instanceof NativeGruDecoder g) {
+                double mb = g.projectionCacheBytes(batch) / (double) (1 << 20);
+                out.printf(Locale.ROOT, "Projection cache: %.1f MB (4 bytes x 3 x %d units x %d sample-steps), limit %d MB: %s%n",
+                        mb, hidden, (long) samples * steps, g.projectionCacheLimitMB(),
+                        g.cachesProjections(batch) ? "cached" : "not cached, full projection per set");
+            }
+            Meter n = new Meter(OnnxModels.NATIVE, nat.bind(batch), nThreads);
+            List<Meter> meters = new ArrayList<>(List.of(n,
+                    new Meter(OnnxModels.ONNXRUNTIME + " (" + nThreads + " intra-op)", ort.bind(batch), nThreads)));
+            if (nThreads > 1) {
+                meters.add(new Meter(OnnxModels.ONNXRUNTIME + " (1 intra-op)", ort1.bind(batch), nThreads));
+            }
+            for (Meter m : meters) {
+                m.warmUp(out);
+            }
+            // Alternate the engines in rounds so that all see the same background load.
+            for (int round = 0; round < ROUNDS; round++) {
+                int quota = sets > 0 ? sets / ROUNDS + (round < sets % ROUNDS ? 1 : 0) : 0;
+                for (Meter m : meters) {
+                    m.round(sets > 0, quota, seconds / ROUNDS);
+                }
+            }
+            Meter best = meters.get(1);
+            for (Meter m : meters) {
+                m.report(out);
+                if (m != n && m.rate() > best.rate()) {
+                    best = m;
+                }
+            }
+            out.printf(Locale.ROOT, "Ratio native / %s: %.2f%n", best.engine, n.rate() / best.rate());
+            for (Meter m : meters.subList(1, meters.size())) {
+                int common = Math.min(n.results.size(), m.results.size());
+                double diff = 0;
+                for (int i = 0; i < common; i++) {
+                    diff = Math.max(diff, maxAbsDiff(n.results.get(i), m.results.get(i)));
+                }
+                out.printf(Locale.ROOT, "Max |p_native - p_%s| over the %d sets both scored: %.3g%n", m.engine, common, diff);
+            }
+        } finally {
+            try {
+                Files.deleteIfExists(file);
+            } catch (IOException ignored) {
+                // a temporary file left behind is harmless
+            }
+        }
+        return 0;
+    }
+
+    private void validate() {
+        if (!(seconds > 0) && sets <= 0) {
+            throw new IllegalArgumentException("--seconds must be positive (or give --sets), found " + seconds);
+        }
+        if (sets < 0) {
+            throw new IllegalArgumentException("--sets must be at least 0, found " + sets);
+        }
+        positive("--samples", samples);
+        positive("--regions", regions);
+        positive("--hidden", hidden);
+        positive("--steps", steps);
+        if (classes < 2) {
+            throw new IllegalArgumentException("--classes must be at least 2, found " + classes);
+        }
+        if (lesionSize < 0 || lesionSize > regions) {
+            throw new IllegalArgumentException("--lesion-size must be between 0 and --regions (" + regions + "), found " + lesionSize);
+        }
+        if (threads != null && threads < 1) {
+            throw new IllegalArgumentException("--threads must be at least 1, found " + threads);
+        }
+        if ((long) samples * steps * regions > Integer.MAX_VALUE / 2) {
+            throw new IllegalArgumentException("the workload of " + (long) samples * steps * regions + " input values is too large");
+        }
+    }
+
+    private static void positive(String name, int v) {
+        if (v < 1) {
+            throw new IllegalArgumentException(name + " must be at least 1, found " + v);
+        }
+    }
+
+    /** One engine's bound batch and what it has scored: sets 0, 1, 2, ... in calls of {@link #SETS_PER_CALL}. */
+    private final class Meter {
+        final String engine;
+        final Decoder.Bound bound;
+        final int nThreads;
+        final List<float[][]> results = new ArrayList<>();
+        int scored;
+        long nanos;
+
+        Meter(String engine, Decoder.Bound bound, int nThreads) {
+            this.engine = engine;
+            this.bound = bound;
+            this.nThreads = nThreads;
+        }
+
+        /** Scores warm-up sets (not counted) for at least two calls and {@link #WARMUP_SECONDS}. */
+        void warmUp(PrintWriter out) {
+            long w0 = System.nanoTime();
+            long first = -1;
+            int calls = 0;
+            while (calls < 2 || System.nanoTime() - w0 < WARMUP_SECONDS * 1e9) {
+                long c0 = System.nanoTime();
+                bound.probabilities(masks(-1 - (calls + 1) * SETS_PER_CALL, SETS_PER_CALL), nThreads);
+                if (first < 0) {
+                    first = System.nanoTime() - c0;
+                }
+                calls++;
+            }
+            out.printf(Locale.ROOT, "%s: warm-up %d calls in %.1f s (first call %.2f s)%n", engine, calls,
+                    (System.nanoTime() - w0) / 1e9, first / 1e9);
+        }
+
+        /** Scores {@code quota} more sets when counting, else sets for {@code wall} seconds. */
+        void round(boolean counting, int quota, double wall) {
+            long t0 = System.nanoTime();
+            int done = 0;
+            while (counting ? done < quota : System.nanoTime() - t0 < wall * 1e9) {
+                int count = counting ? Math.min(SETS_PER_CALL, quota - done) : SETS_PER_CALL;
+                float[][][] p = bound.probabilities(masks(scored, count), nThreads);
+                for (int i = 0; i < count && results.size() < KEPT_SETS; i++) {
+                    results.add(p[i]);
+                }
+                scored += count;
+                done += count;
+            }
+            nanos += System.nanoTime() - t0;
+        }
+
+        double rate() {
+            return scored / (nanos / 1e9);
+        }
+
+        void report(PrintWriter out) {
+            out.printf(Locale.ROOT, "%-27s %5d sets in %5.1f s = %6.2f scored sets/s%n", engine + ":", scored,
+                    nanos / 1e9, rate());
+        }
+    }
+
+    private static double maxAbsDiff(float[][] a, float[][] b) {
+        double max = 0;
+        for (int s = 0; s < a.length; s++) {
+            for (int k = 0; k < a[s].length; k++) {
+                max = Math.max(max, Math.abs(a[s][k] - b[s][k]));
+            }
+        }
+        return max;
+    }
+
+    /** Zero-fill masks of sets {@code from .. from + count), each drawn from its own index and the seed. */
+    private List<InputMask> masks(long from, int count) {
+        List<InputMask> out = new ArrayList<>(count);
+        int[] pool = new int[regions];
+        for (int i = 0; i < count; i++) {
+            SplittableRandom r = new SplittableRandom(seed * 0x9E3779B97F4A7C15L + from + i);
+            for (int k = 0; k < regions; k++) {
+                pool[k] = k;
+            }
+            int[] chosen = new int[lesionSize];
+            for (int k = 0; k < lesionSize; k++) {
+                int j = k + r.nextInt(regions - k);
+                int tmp = pool[k];
+                pool[k] = pool[j];
+                pool[j] = tmp;
+                chosen[k] = pool[k];
+            }
+            out.add(InputMask.zero(RegionSet.of(regions, chosen)));
+        }
+        return out;
+    }
+
+    /** A random single-layer GRU with weights uniform in ±1/√fan-in, so that gates stay away from saturation. */
+    private GruNetwork network(SplittableRandom rng) {
+        double wScale = 1 / Math.sqrt(regions);
+        double rScale = 1 / Math.sqrt(hidden);
+        GruLayer layer = new GruLayer(regions, hidden, uniform(rng, 3 * hidden * regions, wScale),
+                uniform(rng, 3 * hidden * hidden, rScale), uniform(rng, 3 * hidden, rScale), uniform(rng, 3 * hidden, rScale),
+                true);
+        return new GruNetwork(List.of(layer), classes, uniform(rng, classes * hidden, rScale), uniform(rng, classes, rScale));
+    }
+
+    private static float[] uniform(SplittableRandom rng, int n, double scale) {
+        float[] v = new float[n];
+        for (int i = 0; i < n; i++) {
+            v[i] = (float) ((2 * rng.nextDouble() - 1) * scale);
+        }
+        return v;
+    }
+
+    /** Standard normal inputs, every sample {@link #steps} long. */
+    private InputBatch inputs(SplittableRandom rng) {
+        float[][] series = new float[samples][];
+        int[] lengths = new int[samples];
+        for (int s = 0; s < samples; s++) {
+            lengths[s] = steps;
+            float[] x = new float[steps * regions];
+            for (int i = 0; i < x.length; i++) {
+                x[i] = (float) rng.nextGaussian();
+            }
+            series[s] = x;
+        }
+        return InputBatch.of(regions, series, lengths);
+    }
+}
