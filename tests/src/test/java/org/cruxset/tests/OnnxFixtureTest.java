@@ -103,7 +103,7 @@ class OnnxFixtureTest {
         // the ONNX GRU operator specification in make_fixtures.py (lbr0_graph); see tests/fixtures/onnx/README.md
         Fixture f = read(jsonName);
         String name = f.model().getFileName().toString();
-        OnnxOptions options = OnnxOptions.defaults().withClassesFile(f.classes()).withThreads(1);
+        OnnxOptions options = OnnxOptions.defaults().withClassesFile(f.classes());
         List<String> classes = new ArrayList<>();
         f.json().get("classes").forEach(c -> classes.add(c.asText()));
         Layout layout = f.json().get("layout").asText().equals("batch_first") ? Layout.BATCH_FIRST : Layout.TIME_FIRST;

@@ -3,19 +3,15 @@ package org.cruxset.scoring.onnx;
 import java.nio.file.Path;
 import java.util.Objects;
 import org.cruxset.scoring.decoder.Preprocessing;
-import org.cruxset.scoring.internal.Parallel;
 
 /**
  * How {@link OnnxModels#load} opens a model: which engine, the input layout when the graph does not show it, a class
- * order file (nullable), a preprocessing override (nullable) and the ONNX Runtime intra-op thread count.
+ * order file (nullable) and a preprocessing override (nullable). Thread counts are given per scoring call.
  */
-public record OnnxOptions(Engine engine, Layout layout, Path classesFile, Preprocessing preprocessing, int threads) {
+public record OnnxOptions(Engine engine, Layout layout, Path classesFile, Preprocessing preprocessing) {
     public OnnxOptions {
         Objects.requireNonNull(engine, "engine");
         Objects.requireNonNull(layout, "layout");
-        if (threads < 1) {
-            throw new IllegalArgumentException("threads must be at least 1, found " + threads);
-        }
     }
 
     /** Which engine runs a model. */
@@ -43,33 +39,29 @@ public record OnnxOptions(Engine engine, Layout layout, Path classesFile, Prepro
         }
     }
 
-    /** Engine AUTO, layout AUTO, no classes file, preprocessing from the model, all cores. */
+    /** Engine AUTO, layout AUTO, no classes file, preprocessing from the model. */
     public static OnnxOptions defaults() {
-        return new OnnxOptions(Engine.AUTO, Layout.AUTO, null, null, Parallel.defaultThreads());
+        return new OnnxOptions(Engine.AUTO, Layout.AUTO, null, null);
     }
 
     /** The same options with another engine. */
     public OnnxOptions withEngine(Engine e) {
-        return new OnnxOptions(e, layout, classesFile, preprocessing, threads);
+        return new OnnxOptions(e, layout, classesFile, preprocessing);
     }
 
     /** The same options with another layout. */
     public OnnxOptions withLayout(Layout l) {
-        return new OnnxOptions(engine, l, classesFile, preprocessing, threads);
+        return new OnnxOptions(engine, l, classesFile, preprocessing);
     }
 
     /** The same options with a class order file (nullable). */
     public OnnxOptions withClassesFile(Path file) {
-        return new OnnxOptions(engine, layout, file, preprocessing, threads);
+        return new OnnxOptions(engine, layout, file, preprocessing);
     }
 
     /** The same options with a preprocessing override (nullable). */
     public OnnxOptions withPreprocessing(Preprocessing p) {
-        return new OnnxOptions(engine, layout, classesFile, p, threads);
+        return new OnnxOptions(engine, layout, classesFile, p);
     }
 
-    /** The same options with another thread count. */
-    public OnnxOptions withThreads(int n) {
-        return new OnnxOptions(engine, layout, classesFile, preprocessing, n);
-    }
 }

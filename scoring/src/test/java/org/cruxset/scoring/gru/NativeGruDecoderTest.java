@@ -298,7 +298,7 @@ class NativeGruDecoderTest {
             Files.write(file, OnnxGruWriter.write(net, List.of(), labels, Preprocessing.NONE, Map.of()));
             InputBatch batch = randomBatch(rng, 23);
             try (Decoder nat = OnnxModels.load(file, OnnxOptions.defaults().withEngine(Engine.NATIVE));
-                 Decoder ort = OnnxModels.load(file, OnnxOptions.defaults().withEngine(Engine.ONNXRUNTIME).withThreads(1))) {
+                 Decoder ort = OnnxModels.load(file, OnnxOptions.defaults().withEngine(Engine.ONNXRUNTIME))) {
                 assertTrue(nat instanceof NativeGruDecoder);
                 for (LesionFill fill : List.of(LesionFill.ZERO, WAVE)) {
                     List<InputMask> masks = masks(fill);

@@ -72,7 +72,7 @@ class OnnxGruRoundTripTest {
             InputBatch batch = randomBatch(rng, N, LENGTHS);
             List<InputMask> masks = masks();
             try (Decoder nat = OnnxModels.load(file, OnnxOptions.defaults().withEngine(Engine.NATIVE));
-                 Decoder ort = OnnxModels.load(file, OnnxOptions.defaults().withEngine(Engine.ONNXRUNTIME).withThreads(2))) {
+                 Decoder ort = OnnxModels.load(file, OnnxOptions.defaults().withEngine(Engine.ONNXRUNTIME))) {
                 assertEquals(OnnxModels.NATIVE, nat.card().engine());
                 assertEquals(OnnxModels.ONNXRUNTIME, ort.card().engine());
                 assertTrue(((OnnxRuntimeDecoder) ort).hasLengths());

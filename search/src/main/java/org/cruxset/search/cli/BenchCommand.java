@@ -36,8 +36,7 @@ import picocli.CommandLine.Spec;
                 + "a random GRU classifier written as ONNX and loaded by both engines, random inputs and random zero-fill "
                 + "lesion sets. A scored set is one set decoded on every sample.",
             "",
-            "ONNX Runtime is measured as loaded with --threads intra-op threads and, with more than one thread, also with one "
-                + "intra-op thread per run (runs spread over --threads callers); the ratio is against the faster of the two. "
+            "ONNX Runtime is measured as Cruxset loads it: one intra-op thread per run, runs spread over --threads callers. "
                 + "The engines alternate in rounds so that background load affects both alike."
         })
 public final class BenchCommand implements Callable<Integer> {
@@ -108,10 +107,9 @@ public final class BenchCommand implements Callable<Integer> {
         } catch (IOException e) {
             throw new UncheckedIOException("cannot write the benchmark model: " + e.getMessage(), e);
         }
-        OnnxOptions options = OnnxOptions.defaults().withThreads(nThreads);
+        OnnxOptions options = OnnxOptions.defaults();
         try (Decoder nat = OnnxModels.load(file, options.withEngine(Engine.NATIVE));
-             Decoder ort = OnnxModels.load(file, options.withEngine(Engine.ONNXRUNTIME));
-             Decoder ort1 = nThreads > 1 ? OnnxModels.load(file, options.withEngine(Engine.ONNXRUNTIME).withThreads(1)) : null) {
+             Decoder ort = OnnxModels.load(file, options.withEngine(Engine.ONNXRUNTIME))) {
             if (nat instanceof NativeGruDecoder g) {
                 double mb = g.projectionCacheBytes(batch) / (double) (1 << 20);
                 out.printf(Locale.ROOT, "Projection cache: %.1f MB (4 bytes x 3 x %d units x %d sample-steps), limit %d MB: %s%n",
@@ -119,11 +117,7 @@ public final class BenchCommand implements Callable<Integer> {
                         g.cachesProjections(batch) ? "cached" : "not cached, full projection per set");
             }
             Meter n = new Meter(OnnxModels.NATIVE, nat.bind(batch), nThreads);
-            List<Meter> meters = new ArrayList<>(List.of(n,
-                    new Meter(OnnxModels.ONNXRUNTIME + " (" + nThreads + " intra-op)", ort.bind(batch), nThreads)));
-            if (nThreads > 1) {
-                meters.add(new Meter(OnnxModels.ONNXRUNTIME + " (1 intra-op)", ort1.bind(batch), nThreads));
-            }
+            List<Meter> meters = new ArrayList<>(List.of(n, new Meter(OnnxModels.ONNXRUNTIME, ort.bind(batch), nThreads)));
             for (Meter m : meters) {
                 m.warmUp(out);
             }

@@ -58,7 +58,7 @@ public final class DemoCommand implements Callable<Integer> {
         pw.println();
         Cohort c = CohortFiles.read(cohortDir);
         Reports.cohort(pw, c);
-        try (Decoder decoder = OnnxModels.load(modelFile, new OnnxOptions(OnnxOptions.Engine.AUTO, OnnxOptions.Layout.AUTO, null, null, t))) {
+        try (Decoder decoder = OnnxModels.load(modelFile, OnnxOptions.defaults())) {
             Reports.model(pw, decoder.card());
             HeldOut held = HeldOut.of(c, decoder.card());
             ModelInputs in = ModelInputs.prepare(decoder.card(), c.atlas(), held.samples());

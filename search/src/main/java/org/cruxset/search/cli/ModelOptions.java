@@ -54,6 +54,6 @@ public final class ModelOptions {
         if (threads != null && threads < 1) {
             throw new IllegalArgumentException("--threads must be at least 1, found " + threads);
         }
-        return OnnxModels.load(model, new OnnxOptions(e, l, classes, p, threads()));
+        return OnnxModels.load(model, new OnnxOptions(e, l, classes, p));
     }
 }
