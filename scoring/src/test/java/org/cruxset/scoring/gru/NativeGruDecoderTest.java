@@ -1,5 +1,7 @@
 package org.cruxset.scoring.gru;
 
+import org.cruxset.scoring.testing.RandomModels;
+
 import static org.junit.jupiter.api.Assertions.assertArrayEquals;
 import static org.junit.jupiter.api.Assertions.assertEquals;
 import static org.junit.jupiter.api.Assertions.assertFalse;
@@ -80,23 +82,7 @@ class NativeGruDecoderTest {
     }
 
     static GruNetwork randomNetwork(Random rng, int inputs, int[] hidden, boolean[] lbr, int classes, double scale) {
-        List<GruLayer> layers = new ArrayList<>();
-        int in = inputs;
-        for (int i = 0; i < hidden.length; i++) {
-            int h = hidden[i];
-            layers.add(new GruLayer(in, h, uniform(rng, 3 * h * in, scale), uniform(rng, 3 * h * h, scale),
-                    uniform(rng, 3 * h, scale), uniform(rng, 3 * h, scale), lbr[i]));
-            in = h;
-        }
-        return new GruNetwork(layers, classes, uniform(rng, classes * in, 2 * scale), uniform(rng, classes, scale));
-    }
-
-    static float[] uniform(Random rng, int n, double scale) {
-        float[] v = new float[n];
-        for (int i = 0; i < n; i++) {
-            v[i] = (float) ((2 * rng.nextDouble() - 1) * scale);
-        }
-        return v;
+        return RandomModels.randomNetwork(rng, inputs, hidden, lbr, classes, scale);
     }
 
     /** A batch of standard normal samples of lengths 1..40; region 4 is all zeros in every sample. */
