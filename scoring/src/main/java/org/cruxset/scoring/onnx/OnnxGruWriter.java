@@ -151,11 +151,13 @@ public final class OnnxGruWriter {
         return NodeProto.newBuilder().setOpType(op).setName(name).addAllInput(inputs).addAllOutput(outputs);
     }
 
-    private static AttributeProto integer(String name, long v) {
+    /** An INT attribute. */
+    static AttributeProto integer(String name, long v) {
         return AttributeProto.newBuilder().setName(name).setType(AttributeProto.AttributeType.INT).setI(v).build();
     }
 
-    private static AttributeProto ints(String name, long[] v) {
+    /** An INTS attribute. */
+    static AttributeProto ints(String name, long... v) {
         AttributeProto.Builder a = AttributeProto.newBuilder().setName(name).setType(AttributeProto.AttributeType.INTS);
         for (long x : v) {
             a.addInts(x);
@@ -163,7 +165,8 @@ public final class OnnxGruWriter {
         return a.build();
     }
 
-    private static ValueInfoProto valueInfo(String name, TensorProto.DataType type, Object... dims) {
+    /** A tensor value description; a String dimension is symbolic, a number fixed. */
+    static ValueInfoProto valueInfo(String name, TensorProto.DataType type, Object... dims) {
         TensorShapeProto.Builder shape = TensorShapeProto.newBuilder();
         for (Object d : dims) {
             TensorShapeProto.Dimension.Builder dim = TensorShapeProto.Dimension.newBuilder();

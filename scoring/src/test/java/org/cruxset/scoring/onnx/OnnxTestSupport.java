@@ -228,7 +228,7 @@ final class OnnxTestSupport {
     }
 
     static AttributeProto attr(String name, long v) {
-        return AttributeProto.newBuilder().setName(name).setType(AttributeProto.AttributeType.INT).setI(v).build();
+        return OnnxGruWriter.integer(name, v);
     }
 
     static AttributeProto attr(String name, float v) {
@@ -241,11 +241,7 @@ final class OnnxTestSupport {
     }
 
     static AttributeProto ints(String name, long... v) {
-        AttributeProto.Builder a = AttributeProto.newBuilder().setName(name).setType(AttributeProto.AttributeType.INTS);
-        for (long x : v) {
-            a.addInts(x);
-        }
-        return a.build();
+        return OnnxGruWriter.ints(name, v);
     }
 
     static AttributeProto strings(String name, String... v) {
@@ -257,18 +253,7 @@ final class OnnxTestSupport {
     }
 
     static ValueInfoProto valueInfo(String name, TensorProto.DataType type, Object... dims) {
-        TensorShapeProto.Builder shape = TensorShapeProto.newBuilder();
-        for (Object d : dims) {
-            TensorShapeProto.Dimension.Builder dim = TensorShapeProto.Dimension.newBuilder();
-            if (d instanceof String s) {
-                dim.setDimParam(s);
-            } else {
-                dim.setDimValue(((Number) d).longValue());
-            }
-            shape.addDim(dim);
-        }
-        return ValueInfoProto.newBuilder().setName(name).setType(TypeProto.newBuilder()
-                .setTensorType(TypeProto.Tensor.newBuilder().setElemType(type.getNumber()).setShape(shape))).build();
+        return OnnxGruWriter.valueInfo(name, type, dims);
     }
 
     /** The GRU's [1, 6H] bias initializer values: Wb then Rb. */

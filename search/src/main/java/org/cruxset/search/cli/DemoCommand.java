@@ -81,6 +81,10 @@ public final class DemoCommand implements Callable<Integer> {
             Reports.score(pw, "Lesion " + control + " (as many decoy regions, the control)", scores.get(2));
             pw.printf("  -> %s at alpha %.2f%n", crit.critical(scores.get(2), scores.get(0)) ? "CRITICAL" : "not critical: decoding survives", alpha);
             pw.printf("%nAll %d critical sets of minimum size: %s%n", critical.size(), critical);
+            pw.printf("%nScore lesions of your own choice (kept and reused in %s):%n"
+                    + "  ./cruxset score --model %s --cohort %s --lesion \"%s\" --lesion network:%s --out %s%n",
+                    "cruxset-out/results.sqlite", modelFile, cohortDir, String.join(",", set),
+                    c.atlas().networks().keySet().iterator().next(), "cruxset-out");
         }
         return 0;
     }
