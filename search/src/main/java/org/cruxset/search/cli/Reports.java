@@ -48,6 +48,9 @@ final class Reports {
                 card.classLabels(), card.preprocessing().label());
         pw.printf("  engine: %s (%s)%n", card.engine(), card.engineReason());
         pw.printf("  sha256: %s%n", card.modelHash());
+        pw.printf("  region statistics for the mean and noise lesion modes: %s%n",
+                card.metadata().containsKey(org.cruxset.scoring.lesion.ReferenceStats.MEAN_KEY)
+                        ? "recorded (training split)" : "not recorded (give --reference COHORT to use those modes)");
     }
 
     static void score(PrintWriter pw, String what, SetScore q) {
