@@ -51,15 +51,17 @@ final class OnnxTestSupport {
     }
 
     static double maxAbsDiff(float[][][] a, float[][][] b) {
-        double max = 0;
-        for (int m = 0; m < a.length; m++) {
-            for (int s = 0; s < a[m].length; s++) {
-                for (int k = 0; k < a[m][s].length; k++) {
-                    max = Math.max(max, Math.abs(a[m][s][k] - b[m][s][k]));
+        double[][][] wide = new double[b.length][][];
+        for (int m = 0; m < b.length; m++) {
+            wide[m] = new double[b[m].length][];
+            for (int s = 0; s < b[m].length; s++) {
+                wide[m][s] = new double[b[m][s].length];
+                for (int k = 0; k < b[m][s].length; k++) {
+                    wide[m][s][k] = b[m][s][k];
                 }
             }
         }
-        return max;
+        return maxAbsDiff(a, wide);
     }
 
     static double maxAbsDiff(float[][][] a, double[][][] b) {

@@ -18,7 +18,6 @@ import org.cruxset.scoring.decoder.Preprocessing;
 import org.cruxset.scoring.gru.GruLayer;
 import org.cruxset.scoring.gru.GruNetwork;
 import org.cruxset.scoring.gru.NativeGruDecoder;
-import org.cruxset.scoring.internal.Parallel;
 import org.cruxset.scoring.lesion.RegionSet;
 import org.cruxset.scoring.onnx.OnnxGruWriter;
 import org.cruxset.scoring.onnx.OnnxModels;
@@ -26,6 +25,7 @@ import org.cruxset.scoring.onnx.OnnxOptions;
 import org.cruxset.scoring.onnx.OnnxOptions.Engine;
 import picocli.CommandLine.Command;
 import picocli.CommandLine.Model.CommandSpec;
+import picocli.CommandLine.Mixin;
 import picocli.CommandLine.Option;
 import picocli.CommandLine.Spec;
 
@@ -81,14 +81,14 @@ public final class BenchCommand implements Callable<Integer> {
     @Option(names = "--seed", paramLabel = "SEED", defaultValue = "1", description = "Seed of weights, inputs and sets. Default: ${DEFAULT-VALUE}.")
     long seed;
 
-    @Option(names = "--threads", paramLabel = "N", description = "Worker threads of both engines (default: all cores).")
-    Integer threads;
+    @Mixin
+    ThreadOptions threads;
 
     @Override
     public Integer call() {
         validate();
         PrintWriter out = spec.commandLine().getOut();
-        int nThreads = threads == null ? Parallel.defaultThreads() : threads;
+        int nThreads = threads.threads();
         SplittableRandom rng = new SplittableRandom(seed);
         GruNetwork net = network(rng);
         InputBatch batch = inputs(rng);
@@ -170,9 +170,6 @@ public final class BenchCommand implements Callable<Integer> {
         }
         if (lesionSize < 0 || lesionSize > regions) {
             throw new IllegalArgumentException("--lesion-size must be between 0 and --regions (" + regions + "), found " + lesionSize);
-        }
-        if (threads != null && threads < 1) {
-            throw new IllegalArgumentException("--threads must be at least 1, found " + threads);
         }
         if ((long) samples * steps * regions > Integer.MAX_VALUE / 2) {
             throw new IllegalArgumentException("the workload of " + (long) samples * steps * regions + " input values is too large");

@@ -16,17 +16,16 @@ public final class CohortOptions {
 
     /** Reads the cohort. */
     Cohort read() {
-        if (atlas == null) {
-            return CohortFiles.read(cohort);
-        }
-        Path manifest = cohort.toString().endsWith(".tsv") ? cohort : cohort.resolve(CohortFiles.SAMPLES_FILE);
-        return CohortFiles.read(atlas, manifest);
+        return atlas == null ? CohortFiles.read(cohort) : CohortFiles.read(atlas, manifest());
     }
 
     /** The folder holding the manifest. */
     Path folder() {
-        Path manifest = cohort.toString().endsWith(".tsv") ? cohort : cohort.resolve(CohortFiles.SAMPLES_FILE);
-        Path parent = manifest.toAbsolutePath().getParent();
+        Path parent = manifest().toAbsolutePath().getParent();
         return parent == null ? Path.of(".") : parent;
+    }
+
+    private Path manifest() {
+        return cohort.toString().endsWith(".tsv") ? cohort : cohort.resolve(CohortFiles.SAMPLES_FILE);
     }
 }

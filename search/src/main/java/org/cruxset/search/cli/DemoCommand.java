@@ -14,12 +14,12 @@ import org.cruxset.scoring.eval.HeldOut;
 import org.cruxset.scoring.eval.ModelInputs;
 import org.cruxset.scoring.eval.CollapseCriterion;
 import org.cruxset.scoring.eval.SetScore;
-import org.cruxset.scoring.internal.Parallel;
 import org.cruxset.scoring.lesion.RegionSet;
 import org.cruxset.scoring.onnx.OnnxModels;
 import org.cruxset.scoring.onnx.OnnxOptions;
 import org.cruxset.scoring.simulate.TruthFile;
 import picocli.CommandLine.Command;
+import picocli.CommandLine.Mixin;
 import picocli.CommandLine.Model.CommandSpec;
 import picocli.CommandLine.Option;
 import picocli.CommandLine.Spec;
@@ -39,8 +39,8 @@ public final class DemoCommand implements Callable<Integer> {
     @Option(names = "--alpha", paramLabel = "A", defaultValue = "0.05", description = "Level of the collapse test. Default: ${DEFAULT-VALUE}.")
     double alpha;
 
-    @Option(names = "--threads", paramLabel = "N", description = "Worker threads (default: all cores).")
-    Integer threads;
+    @Mixin
+    ThreadOptions threads;
 
     @Override
     public Integer call() {
@@ -53,7 +53,7 @@ public final class DemoCommand implements Callable<Integer> {
                 throw new IllegalArgumentException(p + " not found: run from the repository root, or pass --demo DIR");
             }
         }
-        int t = threads == null ? Parallel.defaultThreads() : threads;
+        int t = threads.threads();
         pw.println(Reports.CAUTION);
         pw.println();
         Cohort c = CohortFiles.read(cohortDir);

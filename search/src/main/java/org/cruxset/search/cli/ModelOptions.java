@@ -3,9 +3,9 @@ package org.cruxset.search.cli;
 import java.nio.file.Path;
 import org.cruxset.scoring.decoder.Decoder;
 import org.cruxset.scoring.decoder.Preprocessing;
-import org.cruxset.scoring.internal.Parallel;
 import org.cruxset.scoring.onnx.OnnxModels;
 import org.cruxset.scoring.onnx.OnnxOptions;
+import picocli.CommandLine.Mixin;
 import picocli.CommandLine.Option;
 
 /** Options shared by commands that load a decoder. */
@@ -29,11 +29,11 @@ public final class ModelOptions {
             description = "Override the model's recorded preprocessing: none or zscore.")
     String preprocessing;
 
-    @Option(names = "--threads", paramLabel = "N", description = "Worker threads (default: all cores).")
-    Integer threads;
+    @Mixin
+    ThreadOptions threads;
 
     int threads() {
-        return threads == null ? Parallel.defaultThreads() : threads;
+        return threads.threads();
     }
 
     /** Opens the decoder. */
@@ -51,9 +51,6 @@ public final class ModelOptions {
             default -> throw new IllegalArgumentException("--layout must be auto, batch-first or time-first, found '" + layout + "'");
         };
         Preprocessing p = preprocessing == null ? null : Preprocessing.parse(preprocessing);
-        if (threads != null && threads < 1) {
-            throw new IllegalArgumentException("--threads must be at least 1, found " + threads);
-        }
         return OnnxModels.load(model, new OnnxOptions(e, l, classes, p));
     }
 }

@@ -4,15 +4,14 @@ import java.io.PrintWriter;
 import java.nio.file.Path;
 import java.util.concurrent.Callable;
 import org.cruxset.scoring.cohort.Cohort;
-import org.cruxset.scoring.cohort.CohortFiles;
 import org.cruxset.scoring.decoder.Preprocessing;
 import org.cruxset.scoring.eval.SetScore;
-import org.cruxset.scoring.internal.Parallel;
 import org.cruxset.scoring.simulate.DecoderTruth;
 import org.cruxset.scoring.simulate.TruthFile;
 import org.cruxset.scoring.train.TrainingConfig;
 import org.cruxset.scoring.train.TrainingRun;
 import picocli.CommandLine.Command;
+import picocli.CommandLine.Mixin;
 import picocli.CommandLine.Model.CommandSpec;
 import picocli.CommandLine.Option;
 import picocli.CommandLine.Spec;
@@ -25,11 +24,8 @@ public final class TrainCommand implements Callable<Integer> {
     @Spec
     CommandSpec spec;
 
-    @Option(names = "--cohort", required = true, paramLabel = "DIR", description = "Cohort folder (regions.tsv, samples.tsv, ...).")
-    Path cohort;
-
-    @Option(names = "--atlas", paramLabel = "TSV", description = "Atlas file, when not regions.tsv beside the manifest.")
-    Path atlas;
+    @Mixin
+    CohortOptions cohort;
 
     @Option(names = "--out", required = true, paramLabel = "FILE", description = "Where to write the ONNX model.")
     Path out;
@@ -68,16 +64,16 @@ public final class TrainCommand implements Callable<Integer> {
     @Option(names = "--alpha", paramLabel = "A", defaultValue = "0.05", description = "Level of the collapse test used for the decoder's own truth. Default: ${DEFAULT-VALUE}.")
     double alpha;
 
-    @Option(names = "--threads", paramLabel = "N", description = "Worker threads (default: all cores).")
-    Integer threads;
+    @Mixin
+    ThreadOptions threads;
 
     @Override
     public Integer call() {
-        Cohort c = atlas == null ? CohortFiles.read(cohort) : CohortFiles.read(atlas, manifest());
-        int t = threads == null ? Parallel.defaultThreads() : threads;
+        Cohort c = cohort.read();
+        int t = threads.threads();
         TrainingConfig cfg = new TrainingConfig(hidden, layers, epochs, batch, learningRate, weightDecay, clip, patience, seed, t);
         PrintWriter pw = spec.commandLine().getOut();
-        Path truth = cohortFolder().resolve(TruthFile.NAME);
+        Path truth = cohort.folder().resolve(TruthFile.NAME);
         ProgressBar bar = new ProgressBar(spec.commandLine().getErr(), "training");
         TrainingRun.Summary s = TrainingRun.run(c, Preprocessing.parse(preprocessing), cfg, out, truth, alpha,
                 (e, max, improved) -> bar.update(e.epoch(), max, String.format("train loss %.3f, validation loss %.3f, accuracy %.3f%s",
@@ -97,14 +93,4 @@ public final class TrainCommand implements Callable<Integer> {
         }
         return 0;
     }
-
-    private Path manifest() {
-        return cohort.toString().endsWith(".tsv") ? cohort : cohort.resolve(CohortFiles.SAMPLES_FILE);
-    }
-
-    private Path cohortFolder() {
-        Path m = manifest().toAbsolutePath().getParent();
-        return m == null ? Path.of(".") : m;
-    }
-
 }
