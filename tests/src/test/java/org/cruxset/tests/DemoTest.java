@@ -1,16 +1,63 @@
 package org.cruxset.tests;
 
+import static org.junit.jupiter.api.Assertions.assertEquals;
+import static org.junit.jupiter.api.Assertions.assertFalse;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
+import java.nio.file.Files;
+import java.nio.file.Path;
+import java.util.List;
+import org.cruxset.scoring.cohort.Cohort;
+import org.cruxset.scoring.cohort.CohortFiles;
+import org.cruxset.scoring.simulate.CohortSummary;
+import org.cruxset.scoring.simulate.TruthFile;
 import org.junit.jupiter.api.Test;
+import org.junit.jupiter.api.io.TempDir;
 
-/** The bundled demo runs and its committed decoder agrees with the committed truth. */
+/** The bundled demo: generated on first use, powered to confirm, and its committed decoder agrees with its truth. */
 class DemoTest {
     @Test
-    void demoShowsACriticalSetAndASurvivingControl() {
-        Cli.Run r = Cli.run("demo", "--demo", Cli.root().resolve("demo-data").toString(), "--threads", "2").requireSuccess();
+    void demoConfirmsTheSmallestCriticalSetAndTheControlSurvives(@TempDir Path out) {
+        Cli.Run r = Cli.run("demo", "--demo", DemoData.DIR.toString(), "--out", out.toString(), "--threads", "2")
+                .requireSuccess();
         assertTrue(r.out().contains("not causal brain function"), r.out());
-        assertTrue(r.out().contains("-> CRITICAL: accuracy not significantly above chance"), r.out());
-        assertTrue(r.out().contains("not critical: decoding survives"), r.out());
+        String first = String.join(",", TruthFile.decoderMinimumSets(DemoData.TRUTH).get(0));
+        String row = r.out().lines().filter(l -> l.startsWith(first + " ")).findFirst().orElseThrow(
+                () -> new AssertionError("no row for " + first + " in\n" + r.out()));
+        assertTrue(row.matches(".*CRITICAL.*CRITICAL\\s*"), "critical on both parts: " + row);
+        String control = r.out().lines().filter(l -> l.contains("(as many decoys)")).findFirst().orElseThrow();
+        assertTrue(control.matches(".*survives.*survives\\s*"), control);
+        assertTrue(r.out().contains("-> Confirmed: "), r.out());
+        assertTrue(r.out().contains("a search part of 216 samples (18 subjects)"), r.out());
+        assertFalse(r.out().contains("differs from the one"), "the cohort generated here matches the committed summary:\n"
+                + r.out());
+    }
+
+    // Source: the demo's committed summary statistics (demo-data/truth.json, cohort_summary), written when the bundled
+    // decoder was trained. The simulator uses Math, not StrictMath, so values are compared to 1e-6, counts exactly.
+    @Test
+    void theGeneratedCohortMatchesTheCommittedSummaryAndHasThePowerToConfirm() {
+        Cohort c = CohortFiles.read(DemoData.COHORT);
+        CohortSummary here = CohortSummary.of(c);
+        assertEquals(List.of(), here.differences(TruthFile.summary(DemoData.TRUTH)));
+        assertTrue(here.test() >= 400, "at least 400 held-out samples, found " + here.test());
+    }
+
+    @Test
+    void theDemoCohortIsGeneratedOnFirstUse(@TempDir Path dir) throws Exception {
+        Path demo = dir.resolve("demo");
+        Files.createDirectories(demo);
+        for (String f : List.of("demo.yaml", "model.onnx", "truth.json")) {
+            Files.copy(DemoData.DIR.resolve(f), demo.resolve(f));
+        }
+        Cli.Run r = Cli.run("demo", "--demo", demo.toString(), "--out", dir.resolve("out").toString(), "--threads", "2",
+                "--criterion", "upper:0.1").requireSuccess();
+        assertTrue(r.out().contains("Generated the demo cohort from"), r.out());
+        assertTrue(Files.isRegularFile(demo.resolve("cohort").resolve("samples.npy")));
+        assertTrue(r.out().contains("upper end of the 95% Wilson interval"), r.out());
+        try (var left = Files.list(demo)) {
+            assertEquals(List.of("cohort", "demo.yaml", "model.onnx", "truth.json"),
+                    left.map(p -> p.getFileName().toString()).sorted().toList(), "no temporary folder left behind");
+        }
     }
 }

@@ -12,7 +12,9 @@ import org.cruxset.scoring.cohort.CohortFiles;
 import org.cruxset.scoring.decoder.Decoder;
 import org.cruxset.scoring.decoder.InputMask;
 import org.cruxset.scoring.eval.HeldOut;
+import org.cruxset.scoring.cohort.Sample;
 import org.cruxset.scoring.eval.ModelInputs;
+import org.cruxset.scoring.eval.Parts;
 import org.cruxset.scoring.eval.SetScore;
 import org.cruxset.scoring.lesion.RegionSet;
 import org.cruxset.scoring.onnx.OnnxModels;
@@ -46,10 +48,24 @@ class EndToEndTest {
     private record Scored(ModelInputs inputs, List<SetScore> scores) {
     }
 
+    /** Which held-out samples to score: all of them, or one part of the default split. */
+    private enum Held { ALL, SEARCH, CONFIRMATION }
+
     private static Scored score(List<List<String>> sets, OnnxOptions.Engine engine) {
+        return score(sets, engine, Held.ALL);
+    }
+
+    private static Scored score(List<List<String>> sets, OnnxOptions.Engine engine, Held which) {
         Cohort c = CohortFiles.read(cohortDir);
         try (Decoder d = OnnxModels.load(model, OnnxOptions.defaults().withEngine(engine))) {
-            ModelInputs in = ModelInputs.prepare(d.card(), c.atlas(), HeldOut.of(c, d.card()).samples());
+            List<Sample> held = HeldOut.of(c, d.card()).samples();
+            Parts parts = Parts.split(held, Parts.DEFAULT_SEED, Parts.DEFAULT_CONFIRM);
+            List<Sample> samples = switch (which) {
+                case ALL -> held;
+                case SEARCH -> parts.search();
+                case CONFIRMATION -> parts.confirmation();
+            };
+            ModelInputs in = ModelInputs.prepare(d.card(), c.atlas(), samples);
             List<InputMask> masks = new ArrayList<>();
             for (List<String> s : sets) {
                 int[] pos = s.stream().mapToInt(name -> d.card().regionNames().indexOf(name)).toArray();
@@ -85,7 +101,8 @@ class EndToEndTest {
         List<String> decoys = TruthFile.decoys(truth);
         assertTrue(decoys.size() >= set.size(), "the power control needs as many decoys as the critical set has regions");
         List<String> control = decoys.subList(0, set.size());
-        Scored s = score(List.of(set, control), OnnxOptions.Engine.AUTO);
+        // the truth was computed on the search part of the default split: the same scores must come out here
+        Scored s = score(List.of(set, control), OnnxOptions.Engine.AUTO, Held.SEARCH);
         SetScore lesioned = s.scores().get(0);
         SetScore decoyLesion = s.scores().get(1);
         assertTrue(lesioned.accuracy() <= lesioned.chance() + 0.05,
@@ -93,8 +110,10 @@ class EndToEndTest {
         assertTrue(lesioned.pValue() >= ALPHA, "lesioning " + set + " should not be significantly above chance, p = " + lesioned.pValue());
         assertTrue(decoyLesion.pValue() < ALPHA,
                 "lesioning decoys " + control + " should keep decoding above chance, p = " + decoyLesion.pValue());
+        Scored confirm = score(List.of(control), OnnxOptions.Engine.AUTO, Held.CONFIRMATION);
+        assertTrue(confirm.scores().get(0).pValue() < ALPHA, "decoys survive on the confirmation part too");
         // the same through ONNX Runtime: the saved model is what was evaluated
-        Scored ort = score(List.of(set, control), OnnxOptions.Engine.ONNXRUNTIME);
+        Scored ort = score(List.of(set, control), OnnxOptions.Engine.ONNXRUNTIME, Held.SEARCH);
         assertEquals(lesioned.correct(), ort.scores().get(0).correct());
         assertEquals(decoyLesion.correct(), ort.scores().get(1).correct());
     }

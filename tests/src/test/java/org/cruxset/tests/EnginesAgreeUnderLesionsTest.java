@@ -30,9 +30,8 @@ class EnginesAgreeUnderLesionsTest {
     @ParameterizedTest
     @EnumSource(LesionMode.class)
     void nativeAndOnnxRuntimeAgreeOnTheDemoDecoder(LesionMode mode) {
-        Path demo = Cli.root().resolve("demo-data");
-        Cohort c = CohortFiles.read(demo.resolve("cohort"));
-        Path model = demo.resolve("model.onnx");
+        Cohort c = CohortFiles.read(DemoData.COHORT);
+        Path model = DemoData.MODEL;
         try (Decoder nat = OnnxModels.load(model, OnnxOptions.defaults().withEngine(OnnxOptions.Engine.NATIVE));
              Decoder ort = OnnxModels.load(model, OnnxOptions.defaults().withEngine(OnnxOptions.Engine.ONNXRUNTIME))) {
             assertEquals("native", nat.card().engine());

@@ -19,12 +19,12 @@ import org.junit.jupiter.api.io.TempDir;
 
 /** A scoring run killed with SIGKILL mid-way resumes with the same command, loses nothing and duplicates nothing. */
 class KillResumeTest {
-    private static final int SETS = 1000;
+    private static final int SETS = 300;
     private static final int KILL_AT = 60;
 
     private static List<String> args(Path out) {
-        List<String> a = new ArrayList<>(List.of("score", "--model", ScoreCommandTest.MODEL, "--cohort",
-                ScoreCommandTest.COHORT, "--out", out.toString(), "--threads", "1", "--bootstrap", "0"));
+        List<String> a = new ArrayList<>(List.of("score", "--model", DemoData.MODEL.toString(), "--cohort",
+                DemoData.COHORT.toString(), "--out", out.toString(), "--threads", "1", "--bootstrap", "0"));
         SplittableRandom rng = new SplittableRandom(42);
         for (int i = 0; i < SETS; i++) {
             a.add("--lesion");
@@ -71,18 +71,22 @@ class KillResumeTest {
         assertTrue(child.waitFor(30, TimeUnit.SECONDS));
         assertEquals(137, child.exitValue(), "killed by SIGKILL");
         long afterKill = count(db, "SELECT COUNT(*) FROM evaluations");
-        assertTrue(afterKill >= seen && afterKill < SETS + 1, "rows after the kill: " + afterKill);
+        assertTrue(afterKill >= seen && afterKill < 2 * (SETS + 1), "rows after the kill (both parts): " + afterKill);
 
         Cli.Run resumed = Cli.run(args(killed).toArray(String[]::new)).requireSuccess();
         assertTrue(resumed.out().contains("already paid by this run"), resumed.out());
         Cli.Run clean = Cli.run(args(dir.resolve("clean")).toArray(String[]::new)).requireSuccess();
 
         assertEquals(tableOf(clean.out()), tableOf(resumed.out()), "resumed results equal an uninterrupted run's");
-        long distinctSets = count(db, "SELECT COUNT(DISTINCT set_hex) FROM evaluations");
-        assertEquals(distinctSets, count(db, "SELECT COUNT(*) FROM evaluations"), "no duplicate evaluations");
-        assertEquals(count(dir.resolve("clean").resolve("results.sqlite"), "SELECT COUNT(*) FROM evaluations"), distinctSets);
+        long distinct = count(db, "SELECT COUNT(DISTINCT data_hash || set_hex) FROM evaluations");
+        assertEquals(distinct, count(db, "SELECT COUNT(*) FROM evaluations"), "no duplicate evaluations");
+        assertEquals(count(dir.resolve("clean").resolve("results.sqlite"), "SELECT COUNT(*) FROM evaluations"), distinct);
         assertEquals(1, count(db, "SELECT COUNT(*) FROM runs"), "the same command resumed the same run");
-        assertEquals(distinctSets, count(db, "SELECT COUNT(*) FROM run_evaluations"), "each set paid once");
+        assertEquals(distinct, count(db, "SELECT COUNT(*) FROM run_evaluations"), "each set linked once");
+        long searchSets = count(db, "SELECT COUNT(*) FROM evaluations e JOIN runs r ON e.data_hash = r.data_hash");
+        assertEquals(distinct / 2, searchSets, "half the evaluations are on the search part");
+        assertEquals(searchSets, count(db, "SELECT CAST(total(cost) AS INTEGER) FROM run_evaluations"),
+                "each search-part set paid once; confirmation scores are not charged");
         assertEquals("finished", stringOf(db, "SELECT status FROM runs"));
     }
 
@@ -94,6 +98,7 @@ class KillResumeTest {
         }
     }
 
+    /** The rows of every table (both parts). */
     private static List<String> tableOf(String out) {
         List<String> rows = new ArrayList<>();
         boolean in = false;
@@ -101,11 +106,12 @@ class KillResumeTest {
             if (line.startsWith("lesion ")) {
                 in = true;
             } else if (in && line.isBlank()) {
-                break;
+                in = false;
             } else if (in) {
                 rows.add(line);
             }
         }
+        assertEquals(2 * (SETS + 1), rows.size(), "both parts' tables: " + out);
         return rows;
     }
 }

@@ -1,6 +1,7 @@
 package org.cruxset.tests;
 
 import static org.junit.jupiter.api.Assertions.assertEquals;
+import static org.junit.jupiter.api.Assertions.assertFalse;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
 import java.nio.file.Files;
@@ -15,34 +16,57 @@ import org.junit.jupiter.api.io.TempDir;
 
 /** The score command on the bundled demo: criticality, the cache and clear refusals. */
 class ScoreCommandTest {
-    static final Path DEMO = Cli.root().resolve("demo-data");
-    static final String MODEL = DEMO.resolve("model.onnx").toString();
-    static final String COHORT = DEMO.resolve("cohort").toString();
+    static final String MODEL = DemoData.MODEL.toString();
+    static final String COHORT = DemoData.COHORT.toString();
 
     static String joined(List<String> names) {
         return String.join(",", names);
     }
 
-    private static String rowOf(String out, String lesion) {
-        for (String line : out.split("\n")) {
+    /** The row of {@code lesion} in the table of {@code part} ("Search" or "Confirmation"). */
+    static String rowOf(String out, String part, String lesion) {
+        int at = out.indexOf("\n" + part + " part: n = ");
+        if (at < 0) {
+            throw new AssertionError("no " + part + " part table in\n" + out);
+        }
+        for (String line : out.substring(at + 1).split("\n")) {
             if (line.startsWith(lesion + " ")) {
                 return line;
             }
         }
-        throw new AssertionError("no row for " + lesion + " in\n" + out);
+        throw new AssertionError("no row for " + lesion + " in the " + part + " part of\n" + out);
+    }
+
+    // Must show: the decoder's smallest critical set from its search-part truth is confirmed on the confirmation
+    // part under the default criterion, and score shows both parts.
+    @Test
+    void theTruthsSmallestCriticalSetIsConfirmedAndAsManyDecoysAreNotCritical(@TempDir Path out) {
+        List<String> critical = TruthFile.decoderMinimumSets(DemoData.TRUTH).get(0);
+        List<String> decoys = TruthFile.decoys(DemoData.TRUTH).subList(0, critical.size());
+        Cli.Run r = Cli.run("score", "--model", MODEL, "--cohort", COHORT, "--lesion", joined(critical),
+                "--lesion", joined(decoys), "--out", out.toString(), "--threads", "2").requireSuccess();
+        for (String part : List.of("Search", "Confirmation")) {
+            assertTrue(rowOf(r.out(), part, joined(critical)).endsWith("CRITICAL"), part + ":\n" + r.out());
+            assertTrue(rowOf(r.out(), part, joined(decoys)).endsWith("no"), part + ":\n" + r.out());
+        }
+        assertTrue(r.out().contains("Search part: n = 216 samples from 18 subjects; chance 0.167"), r.out());
+        assertTrue(r.out().contains("Confirmation part: n = 216 samples from 18 subjects; chance 0.167"), r.out());
+        assertTrue(r.out().contains("which search strategies see"), r.out());
+        assertTrue(r.out().contains("not causal brain function"), r.out());
     }
 
     @Test
-    void aMinimalCriticalSetIsCriticalAndAsManyDecoysAreNot(@TempDir Path out) {
-        Path truth = DEMO.resolve("cohort").resolve(TruthFile.NAME);
-        List<String> critical = TruthFile.decoderMinimumSets(truth).get(0);
-        List<String> decoys = TruthFile.decoys(truth).subList(0, critical.size());
-        Cli.Run r = Cli.run("score", "--model", MODEL, "--cohort", COHORT, "--lesion", joined(critical),
-                "--lesion", joined(decoys), "--out", out.toString(), "--threads", "2").requireSuccess();
-        assertTrue(rowOf(r.out(), joined(critical)).endsWith("CRITICAL"), r.out());
-        assertTrue(rowOf(r.out(), joined(decoys)).endsWith("no"), r.out());
-        assertTrue(r.out().contains("not causal brain function"), r.out());
-        assertTrue(r.out().contains("chance 0.167"), r.out());
+    void withoutAConfirmationPartTheOutputSaysScoresAreOptimistic(@TempDir Path out) {
+        Cli.Run r = Cli.run("score", "--model", MODEL, "--cohort", COHORT, "--lesion", "ember-09", "--confirm", "0",
+                "--criterion", "upper:0.1", "--bootstrap", "0", "--out", out.toString(), "--threads", "2").requireSuccess();
+        assertTrue(r.out().contains("No confirmation part (--confirm 0)") && r.out().contains("optimistic"), r.out());
+        assertTrue(r.out().contains("Search part: n = 432 samples from 36 subjects"), r.out());
+        assertFalse(r.out().contains("Confirmation part"), r.out());
+        assertTrue(r.out().contains("upper end of the 95% Wilson interval of accuracy at or below chance + 0.1"), r.out());
+        Cli.Run bad = Cli.run("score", "--model", MODEL, "--cohort", COHORT, "--lesion", "ember-09", "--confirm", "1",
+                "--out", out.toString());
+        assertEquals(2, bad.exit(), bad.err());
+        assertTrue(bad.err().contains("--confirm must be at least 0 and below 1, found 1.0"), bad.err());
     }
 
     @Test
@@ -51,8 +75,12 @@ class ScoreCommandTest {
             "--lesion", "arbor-01,arbor-02", "--mode", "noise", "--out", out.toString(), "--threads", "2"};
         Cli.Run first = Cli.run(args).requireSuccess();
         assertTrue(first.out().contains("Decoder calls: 3 set(s) decoded, 0 reused from the store, 0 already paid"), first.out());
+        assertTrue(first.out().contains("Confirmation part (not charged): 3 set(s) decoded"), first.out());
+        assertTrue(first.out().contains("3 scored set(s) charged to this run"), first.out());
         Cli.Run second = Cli.run(args).requireSuccess();
         assertTrue(second.out().contains("Decoder calls: 0 set(s) decoded, 0 reused from the store, 3 already paid"), second.out());
+        assertTrue(second.out().contains("Confirmation part (not charged): 0 set(s) decoded, 0 reused from the store, "
+                + "3 already paid"), second.out());
         // another command asking for a stored set reuses it: charged to its own budget, no decoder time
         Cli.Run other = Cli.run("score", "--model", MODEL, "--cohort", COHORT, "--lesion", "arbor-01,arbor-02",
                 "--mode", "noise", "--out", out.toString(), "--threads", "2").requireSuccess();
@@ -92,7 +120,10 @@ class ScoreCommandTest {
                 "--threads", "2").requireSuccess();
         Cli.run("export", "--out", out.toString()).requireSuccess();
         List<String> outcomes = Files.readAllLines(out.resolve("export").resolve("outcomes.tsv"));
-        assertEquals(1 + 2 * 60, outcomes.size(), "header plus 60 samples for the intact set and the lesion");
+        assertEquals(1 + 2 * (216 + 216), outcomes.size(),
+                "header plus 216 samples of each part for the intact set and the lesion");
+        List<String> subjects = Files.readAllLines(out.resolve("export").resolve("part_subjects.tsv"));
+        assertEquals(1 + 36, subjects.size(), "every held-out subject in one part");
         Matcher m = Pattern.compile("sample_id").matcher(outcomes.get(0));
         assertTrue(m.find(), outcomes.get(0));
     }

@@ -21,6 +21,9 @@ import org.cruxset.scoring.store.ResultsStore;
  * strategies compare on equal budgets) but costs no decoder time; only the rest is decoded, in chunks that are
  * committed as they finish, so a killed run loses at most the chunk in flight. Not thread-safe; it parallelises
  * decoding itself.
+ *
+ * <p>Each set costs {@code costPerSet} of the budget unit: 1 for the search part (the unit is one set scored on all
+ * of its samples), 0 for the confirmation part, whose scores are reported beside the search but never charged.
  */
 public final class LesionScorer {
     /** Where a score came from. */
@@ -48,6 +51,7 @@ public final class LesionScorer {
     private final ResultsStore store;
     private final ResultsStore.Run run;
     private final Budget budget;
+    private final double costPerSet;
     private final int threads;
     private final int chunk;
     private final java.util.function.IntFunction<String> regionName;
@@ -58,10 +62,11 @@ public final class LesionScorer {
 
     /**
      * A scorer of {@code decoder} on {@code inputs}. {@code store} and {@code run} may both be null (no persistence);
+     * {@code costPerSet} (0 or more) is what one set is charged to {@code budget} and recorded as in the store;
      * {@code regionName} names a model input for the store's human-readable columns.
      */
     public LesionScorer(Decoder decoder, ModelInputs inputs, LesionMode mode, long modeSeed, LesionFill fill,
-                        ResultsStore store, ResultsStore.Run run, Budget budget, int threads,
+                        ResultsStore store, ResultsStore.Run run, Budget budget, double costPerSet, int threads,
                         java.util.function.IntFunction<String> regionName) {
         Objects.requireNonNull(decoder, "decoder");
         this.inputs = Objects.requireNonNull(inputs, "inputs");
@@ -78,6 +83,10 @@ public final class LesionScorer {
         this.store = store;
         this.run = run;
         this.budget = Objects.requireNonNull(budget, "budget");
+        if (!(costPerSet >= 0) || Double.isInfinite(costPerSet)) {
+            throw new IllegalArgumentException("costPerSet must be finite and at least 0, found " + costPerSet);
+        }
+        this.costPerSet = costPerSet;
         this.threads = threads;
         this.chunk = Math.max(1, Math.min(64, 4 * threads));
         this.regionName = Objects.requireNonNull(regionName, "regionName");
@@ -157,7 +166,7 @@ public final class LesionScorer {
                 ResultsStore.Stored st = found.get(e.getKey());
                 boolean paid = st != null && run.paid(e.getKey());
                 if (!paid) {
-                    cost += 1.0;
+                    cost += costPerSet;
                 }
                 if (st == null) {
                     toDecode.add(e.getValue());
@@ -175,7 +184,7 @@ public final class LesionScorer {
                 Source src = run.paid(e.getKey()) ? Source.REPLAYED : Source.STORED;
                 if (src == Source.STORED) {
                     reusedKeys.add(e.getKey());
-                    budget.charge(1.0);
+                    budget.charge(costPerSet);
                     stored++;
                 } else {
                     replayed++;
@@ -185,7 +194,7 @@ public final class LesionScorer {
                 result.put(e.getValue(), sc);
             }
             if (!reusedKeys.isEmpty()) {
-                store.record(run, List.of(), reusedKeys, 1.0);
+                store.record(run, List.of(), reusedKeys, costPerSet);
             }
             for (int start = 0; start < toDecode.size(); start += chunk) {
                 List<RegionSet> part = toDecode.subList(start, Math.min(toDecode.size(), start + chunk));
@@ -220,14 +229,14 @@ public final class LesionScorer {
             Scored scored = new Scored(s, sc, o, Source.DECODED);
             memo.put(s, scored);
             result.put(s, scored);
-            budget.charge(1.0);
+            budget.charge(costPerSet);
             decoded++;
             if (store != null) {
                 fresh.add(new ResultsStore.NewEvaluation(key(s), names(s), sc, o, wall));
             }
         }
         if (store != null) {
-            store.record(run, fresh, List.of(), 1.0);
+            store.record(run, fresh, List.of(), costPerSet);
         }
     }
 

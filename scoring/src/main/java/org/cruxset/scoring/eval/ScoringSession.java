@@ -8,6 +8,7 @@ import java.util.ArrayList;
 import java.util.HexFormat;
 import java.util.List;
 import java.util.Objects;
+import org.cruxset.scoring.Checks;
 import org.cruxset.scoring.Provenance;
 import org.cruxset.scoring.cohort.Cohort;
 import org.cruxset.scoring.decoder.Decoder;
@@ -17,12 +18,15 @@ import org.cruxset.scoring.lesion.LesionFills;
 import org.cruxset.scoring.lesion.LesionMode;
 import org.cruxset.scoring.lesion.ReferenceStats;
 import org.cruxset.scoring.lesion.RegionSet;
+import org.cruxset.scoring.store.PartSplit;
 import org.cruxset.scoring.store.ResultsStore;
 
 /**
- * Everything one scoring run needs, wired once: the held-out inputs of a cohort for a decoder, the lesion fill of the
- * chosen mode (with its reference statistics), the results store of the output folder with this run's row (resumed
- * when the same command ran before), the budget, the collapse criterion and the intact score.
+ * Everything one scoring run needs, wired once: the held-out samples of a cohort for a decoder, split by subject into
+ * a search part and a confirmation part ({@link Parts}); for each part its inputs, lesion fill, scorer and intact
+ * score; the results store of the output folder, with the split and this run's row (resumed when the same command
+ * ran before); the budget and the collapse criterion. Strategies see only the search part: its scorer charges the
+ * budget (one unit per set scored on all of its samples); the confirmation scorer charges nothing.
  */
 public final class ScoringSession implements AutoCloseable {
     /** The store's file name inside an output folder. */
@@ -31,10 +35,13 @@ public final class ScoringSession implements AutoCloseable {
     /**
      * Settings of a run. {@code reference} (nullable) is a cohort whose samples give the mean and noise modes'
      * statistics, overriding those recorded in a Cruxset-trained model; {@code outDir} (nullable) holds the store;
-     * {@code command} is the full command or config text, which with the data identifies the run for resuming.
+     * {@code command} is the full command or config text, which with the data identifies the run for resuming;
+     * {@code splitSeed} and {@code confirm} split the held-out subjects into parts ({@code confirm} 0: no
+     * confirmation part).
      */
     public record Settings(LesionMode mode, long modeSeed, Cohort reference, CollapseCriterion criterion, double budget,
-                           int threads, Path outDir, String kind, String command, long seed) {
+                           int threads, Path outDir, String kind, String command, long seed, long splitSeed,
+                           double confirm) {
         public Settings {
             Objects.requireNonNull(mode, "mode");
             Objects.requireNonNull(criterion, "criterion");
@@ -43,6 +50,24 @@ public final class ScoringSession implements AutoCloseable {
             if (threads < 1) {
                 throw new IllegalArgumentException("threads must be at least 1, found " + threads);
             }
+            Checks.within("confirm fraction", confirm, 0.0, Math.nextDown(1.0));
+        }
+    }
+
+    /**
+     * One part of the held-out data: its name ({@code search} or {@code confirmation}), inputs, scorer, intact score
+     * and the session's criterion.
+     */
+    public record Part(String name, ModelInputs inputs, LesionScorer scorer, LesionScorer.Scored intact,
+                       CollapseCriterion criterion) {
+        /** Whether a set scored on this part is critical. */
+        public boolean critical(SetScore score) {
+            return criterion.critical(score, intact.score());
+        }
+
+        /** Number of distinct subjects in this part. */
+        public int subjects() {
+            return new java.util.HashSet<>(inputs.subjects()).size();
         }
     }
 
@@ -50,12 +75,13 @@ public final class ScoringSession implements AutoCloseable {
     private final Cohort cohort;
     private final Settings settings;
     private final HeldOut heldOut;
-    private final ModelInputs inputs;
+    private final Parts parts;
     private final ResultsStore store;
     private final ResultsStore.Run run;
-    private final LesionScorer scorer;
+    private final Long splitId;
     private final List<String> notes = new ArrayList<>();
-    private final LesionScorer.Scored intact;
+    private final Part search;
+    private final Part confirmation;
 
     private ScoringSession(Decoder decoder, Cohort cohort, Settings s) {
         this.decoder = decoder;
@@ -63,26 +89,46 @@ public final class ScoringSession implements AutoCloseable {
         this.settings = s;
         ModelCard card = decoder.card();
         this.heldOut = HeldOut.of(cohort, card);
-        this.inputs = ModelInputs.prepare(card, cohort.atlas(), heldOut.samples());
+        this.parts = Parts.split(heldOut.samples(), s.splitSeed(), s.confirm());
+        ModelInputs searchIn = ModelInputs.prepare(card, cohort.atlas(), parts.search());
+        ModelInputs confirmIn = parts.hasConfirmation()
+                ? ModelInputs.prepare(card, cohort.atlas(), parts.confirmation()) : null;
         ReferenceStats ref = reference(card, s.reference());
-        LesionFill fill = LesionFills.of(s.mode(), s.modeSeed(), ref, inputs.batch(), inputs.sampleIds());
         LesionFills.coincidence(s.mode(), card.preprocessing(), ref).ifPresent(notes::add);
-        String dataHash = DataHash.of(inputs);
+        String searchHash = DataHash.of(searchIn);
         if (s.outDir() != null) {
             store = ResultsStore.open(s.outDir().resolve(STORE_FILE));
-            String runKey = runKey(s, card.modelHash(), dataHash);
-            run = store.beginOrResume(new ResultsStore.RunInfo(runKey, s.kind(), s.command(), card.modelHash(), dataHash,
-                    card.preprocessing().label(), s.mode(), s.modeSeed(), s.seed(), Provenance.current()));
+            store.registerDataset(searchHash, searchIn);
+            String confirmHash = null;
+            if (confirmIn != null) {
+                confirmHash = DataHash.of(confirmIn);
+                store.registerDataset(confirmHash, confirmIn);
+            }
+            splitId = store.registerSplit(new PartSplit(parts.seed(), parts.confirmFraction(), searchHash, confirmHash,
+                    parts.searchSubjects(), parts.confirmationSubjects()));
+            String runKey = runKey(s, card.modelHash(), searchHash);
+            run = store.beginOrResume(new ResultsStore.RunInfo(runKey, s.kind(), s.command(), card.modelHash(),
+                    searchHash, card.preprocessing().label(), s.mode(), s.modeSeed(), s.seed(), Provenance.current(),
+                    splitId));
         } else {
             store = null;
             run = null;
+            splitId = null;
         }
         Budget budget = Double.isInfinite(s.budget()) ? Budget.unlimited(run == null ? 0 : run.spent())
                 : Budget.of(s.budget(), run == null ? 0 : run.spent());
         List<String> names = card.regionNames().isEmpty() ? cohort.atlas().names() : card.regionNames();
-        this.scorer = new LesionScorer(decoder, inputs, s.mode(), s.modeSeed(), fill, store, run, budget, s.threads(),
-                names::get);
-        this.intact = scorer.score(RegionSet.empty(inputs.batch().regions()));
+        this.search = part(PartSplit.SEARCH, searchIn, ref, budget, 1.0, names);
+        this.confirmation = confirmIn == null ? null
+                : part(PartSplit.CONFIRMATION, confirmIn, ref, Budget.unlimited(0), 0.0, names);
+    }
+
+    private Part part(String name, ModelInputs in, ReferenceStats ref, Budget budget, double cost, List<String> names) {
+        LesionFill fill = LesionFills.of(settings.mode(), settings.modeSeed(), ref, in.batch(), in.sampleIds());
+        LesionScorer scorer = new LesionScorer(decoder, in, settings.mode(), settings.modeSeed(), fill, store, run, budget,
+                cost, settings.threads(), names::get);
+        LesionScorer.Scored intact = scorer.score(RegionSet.empty(in.batch().regions()));
+        return new Part(name, in, scorer, intact, settings.criterion());
     }
 
     /** Opens a session; close it to finish the run and close the store (the decoder stays open). */
@@ -112,12 +158,34 @@ public final class ScoringSession implements AutoCloseable {
         }
     }
 
+    /** The search part's scorer: the one every strategy spends its budget through. */
     public LesionScorer scorer() {
-        return scorer;
+        return search.scorer();
     }
 
+    /** The search part's inputs. */
     public ModelInputs inputs() {
-        return inputs;
+        return search.inputs();
+    }
+
+    /** The search part: what strategies see and pay for. */
+    public Part search() {
+        return search;
+    }
+
+    /** The confirmation part, absent with {@code confirm} 0. */
+    public java.util.Optional<Part> confirmation() {
+        return java.util.Optional.ofNullable(confirmation);
+    }
+
+    /** How the held-out subjects were split. */
+    public Parts parts() {
+        return parts;
+    }
+
+    /** The split's row id in the store, or null without an output folder. */
+    public Long splitId() {
+        return splitId;
     }
 
     public HeldOut heldOut() {
@@ -136,14 +204,14 @@ public final class ScoringSession implements AutoCloseable {
         return settings;
     }
 
-    /** The score of the empty lesion. */
+    /** The score of the empty lesion on the search part. */
     public LesionScorer.Scored intact() {
-        return intact;
+        return search.intact();
     }
 
-    /** Whether a scored set is critical under the session's criterion. */
+    /** Whether a set scored on the search part is critical under the session's criterion. */
     public boolean critical(SetScore score) {
-        return settings.criterion().critical(score, intact.score());
+        return search.critical(score);
     }
 
     /** Notes for the reader (e.g. a lesion mode that coincides with another here). */
@@ -163,7 +231,7 @@ public final class ScoringSession implements AutoCloseable {
 
     /** The model input set of an atlas-position set. */
     public RegionSet toInputs(RegionSet atlasSet) {
-        return inputs.toInputs(atlasSet, cohort.atlas());
+        return search.inputs().toInputs(atlasSet, cohort.atlas());
     }
 
     @Override

@@ -1,7 +1,8 @@
 package org.cruxset.scoring.lesion;
 
 import java.util.Arrays;
-import java.util.HashMap;
+import java.util.Collections;
+import java.util.LinkedHashMap;
 import java.util.Map;
 import java.util.Objects;
 import org.cruxset.scoring.decoder.InputBatch;
@@ -113,10 +114,10 @@ public record ReferenceStats(float[] mean, float[] variance) {
 
     /** The statistics as metadata entries ({@link #MEAN_KEY}, {@link #VARIANCE_KEY}) that round-trip exactly. */
     public Map<String, String> toMetadata() {
-        Map<String, String> m = new HashMap<>();
+        Map<String, String> m = new LinkedHashMap<>();
         m.put(MEAN_KEY, join(mean));
         m.put(VARIANCE_KEY, join(variance));
-        return Map.copyOf(m);
+        return Collections.unmodifiableMap(m);
     }
 
     /** Reads the statistics from metadata written by {@link #toMetadata()}, naming the key when one is missing or malformed. */

@@ -35,9 +35,10 @@ import org.sqlite.SQLiteConfig;
  * The results of one output folder in one SQLite file: runs, the datasets they scored, every evaluation (scores and
  * per-sample outcomes) stored once under its {@link EvaluationKey}, and which run paid for which evaluation.
  *
- * <p>Schema version 1 (the DDL is {@link #SCHEMA}; {@code SCHEMA.md} beside this class documents every column):
+ * <p>Schema version 2 (the DDL is {@link #SCHEMA}, built step by step by {@link StoreSchema}, which migrates older
+ * stores when they are opened; {@code SCHEMA.md} beside this class documents every column):
  * <ul>
- *   <li>{@code schema_version(version)}: one row, 1; a file without it is not a store, a higher version is refused.</li>
+ *   <li>{@code schema_version(version)}: one row; a file without it is not a store, a higher version is refused.</li>
  *   <li>{@code runs}: one row per command, unique {@code run_key}, its kind, full config, evaluation identity
  *       (model and data hash, preprocessing, lesion mode and seed), seed, provenance, start and end times and
  *       status ({@code running} until {@link #finish(Run)}, then {@code finished}).</li>
@@ -49,6 +50,9 @@ import org.sqlite.SQLiteConfig;
  *       BLOBs ({@code predicted}: int32 per sample; {@code true_class_prob}: float32 per sample, raw bits).</li>
  *   <li>{@code run_evaluations}: what each run paid, primary key (run, evaluation) so a run pays for a set once,
  *       with cost, whether the evaluation already existed ({@code reused}) and the order within the run.</li>
+ *   <li>{@code part_splits} and {@code part_subjects}: how held-out subjects were split into a search part and a
+ *       confirmation part (seed, fraction, the data hash of each part, each subject's part); {@code runs.split_id}
+ *       names the split a run scored under (NULL for runs of version-1 stores, which scored all held-out samples).</li>
  * </ul>
  * Score doubles are SQLite REALs (IEEE 754 binary64) and read back bit for bit, with two exceptions imposed by
  * SQLite: NaN is stored as NULL (and read back as {@link Double#NaN}), and -0.0 reads back as 0.0. Outcome
@@ -66,94 +70,14 @@ import org.sqlite.SQLiteConfig;
  * store may be shared by threads; calls are serialised.
  */
 public final class ResultsStore implements AutoCloseable {
-    /** The schema version this code writes and reads. */
-    public static final int SCHEMA_VERSION = 1;
+    /** The schema version this code writes and reads (older stores are migrated when opened). */
+    public static final int SCHEMA_VERSION = StoreSchema.VERSION;
 
     /** Milliseconds a statement waits for another connection's lock before failing. */
     public static final int BUSY_TIMEOUT_MS = 30_000;
 
-    /** The DDL of schema version 1, one statement per element, in creation order. */
-    public static final List<String> SCHEMA = List.of(
-            """
-            CREATE TABLE schema_version (
-              version INTEGER NOT NULL
-            )""",
-            """
-            CREATE TABLE runs (
-              id              INTEGER PRIMARY KEY,
-              run_key         TEXT    NOT NULL UNIQUE,
-              kind            TEXT    NOT NULL,
-              config          TEXT    NOT NULL,
-              model_hash      TEXT    NOT NULL,
-              data_hash       TEXT    NOT NULL,
-              preprocessing   TEXT    NOT NULL,
-              lesion_mode     TEXT    NOT NULL,
-              mode_seed       INTEGER NOT NULL,
-              seed            INTEGER NOT NULL,
-              cruxset_version TEXT    NOT NULL,
-              jvm             TEXT    NOT NULL,
-              os              TEXT    NOT NULL,
-              arch            TEXT    NOT NULL,
-              started_at      TEXT    NOT NULL,
-              ended_at        TEXT,
-              status          TEXT    NOT NULL CHECK (status IN ('running', 'finished'))
-            )""",
-            """
-            CREATE TABLE datasets (
-              data_hash     TEXT    PRIMARY KEY,
-              samples       INTEGER NOT NULL,
-              class_labels  TEXT,
-              registered_at TEXT    NOT NULL
-            )""",
-            """
-            CREATE TABLE dataset_samples (
-              data_hash    TEXT    NOT NULL REFERENCES datasets (data_hash),
-              sample_index INTEGER NOT NULL,
-              sample_id    TEXT    NOT NULL,
-              subject      TEXT    NOT NULL,
-              label        TEXT    NOT NULL,
-              label_index  INTEGER,
-              PRIMARY KEY (data_hash, sample_index)
-            ) WITHOUT ROWID""",
-            """
-            CREATE TABLE evaluations (
-              id                 INTEGER PRIMARY KEY,
-              model_hash         TEXT    NOT NULL,
-              data_hash          TEXT    NOT NULL,
-              preprocessing      TEXT    NOT NULL,
-              lesion_mode        TEXT    NOT NULL,
-              mode_seed          INTEGER NOT NULL,
-              set_hex            TEXT    NOT NULL,
-              universe           INTEGER NOT NULL,
-              set_size           INTEGER NOT NULL,
-              region_names       TEXT    NOT NULL,
-              n                  INTEGER NOT NULL,
-              correct            INTEGER NOT NULL,
-              accuracy           REAL,
-              balanced_accuracy  REAL,
-              mean_true_prob     REAL,
-              per_class_accuracy TEXT    NOT NULL,
-              chance             REAL,
-              wilson_low         REAL,
-              wilson_high        REAL,
-              p_value            REAL,
-              wall_seconds       REAL    NOT NULL,
-              predicted          BLOB    NOT NULL,
-              true_class_prob    BLOB    NOT NULL,
-              created_at         TEXT    NOT NULL,
-              created_by_run     INTEGER NOT NULL REFERENCES runs (id),
-              UNIQUE (model_hash, data_hash, preprocessing, lesion_mode, mode_seed, set_hex)
-            )""",
-            """
-            CREATE TABLE run_evaluations (
-              run_id        INTEGER NOT NULL REFERENCES runs (id),
-              evaluation_id INTEGER NOT NULL REFERENCES evaluations (id),
-              cost          REAL    NOT NULL CHECK (cost >= 0),
-              reused        INTEGER NOT NULL CHECK (reused IN (0, 1)),
-              position      INTEGER NOT NULL,
-              PRIMARY KEY (run_id, evaluation_id),
-              UNIQUE (run_id, position)
-            ) WITHOUT ROWID""");
+    /** The DDL of every schema step, one statement per element, in order (see {@code SCHEMA.md}). */
+    public static final List<String> SCHEMA = StoreSchema.allStatements();
 
     private static final String RUNNING = "running";
     private static final String FINISHED = "finished";
@@ -189,7 +113,7 @@ public final class ResultsStore implements AutoCloseable {
         }
         Connection c = connect(file, false);
         try {
-            Integer version = readSchemaVersion(c, file);
+            StoreSchema.readVersion(c, file);
             try (Statement s = c.createStatement()) {
                 // A file system without shared memory keeps the old journal; commits stay durable against a
                 // killed process in rollback-journal mode as well, so the store still opens.
@@ -199,9 +123,8 @@ public final class ResultsStore implements AutoCloseable {
                 s.execute("PRAGMA synchronous = NORMAL");
                 s.execute("PRAGMA foreign_keys = ON");
             }
-            if (version == null) {
-                createSchema(c, file);
-            }
+            StoreSchema.createOrMigrate(c, file);
+            StoreSchema.readVersion(c, file);
             return new ResultsStore(file, c);
         } catch (SQLException e) {
             closeQuietly(c);
@@ -220,7 +143,7 @@ public final class ResultsStore implements AutoCloseable {
         }
         Connection c = connect(file, true);
         try {
-            if (readSchemaVersion(c, file) == null) {
+            if (StoreSchema.readVersion(c, file) == null) {
                 throw new StoreException(file, "is not a Cruxset results store: the database is empty"
                         + " (expected a schema_version table with version " + SCHEMA_VERSION + ")");
             }
@@ -242,75 +165,6 @@ public final class ResultsStore implements AutoCloseable {
         }
     }
 
-    /** The version in the file, or null when the database is empty; fails naming the file when it is not a store. */
-    private static Integer readSchemaVersion(Connection c, Path file) {
-        List<String> tables = new ArrayList<>();
-        try (Statement s = c.createStatement();
-             ResultSet r = s.executeQuery("SELECT name FROM sqlite_schema WHERE type = 'table' ORDER BY name")) {
-            while (r.next()) {
-                tables.add(r.getString(1));
-            }
-        } catch (SQLException e) {
-            throw new StoreException(file, "is not a Cruxset results store: cannot read it as an SQLite database ("
-                    + e.getMessage() + ")", e);
-        }
-        if (tables.isEmpty()) {
-            return null;
-        }
-        if (!tables.contains("schema_version")) {
-            throw new StoreException(file, "is not a Cruxset results store: it has no schema_version table (found "
-                    + "tables " + String.join(", ", tables) + "; expected schema_version, runs, datasets, "
-                    + "dataset_samples, evaluations, run_evaluations)");
-        }
-        List<Long> versions = new ArrayList<>();
-        try (Statement s = c.createStatement();
-             ResultSet r = s.executeQuery("SELECT version FROM schema_version")) {
-            while (r.next()) {
-                versions.add(r.getLong(1));
-            }
-        } catch (SQLException e) {
-            throw new StoreException(file, "cannot read the schema_version table: " + e.getMessage(), e);
-        }
-        if (versions.size() != 1) {
-            throw new StoreException(file, "is not a readable Cruxset results store: schema_version must hold one row, "
-                    + "found " + versions.size() + " " + versions);
-        }
-        long v = versions.get(0);
-        if (v > SCHEMA_VERSION) {
-            throw new StoreException(file, "was written by a newer Cruxset: store schema version " + v
-                    + ", this version reads schema version " + SCHEMA_VERSION + " or older");
-        }
-        if (v < 1) {
-            throw new StoreException(file, "is not a readable Cruxset results store: schema version " + v
-                    + ", expected 1 to " + SCHEMA_VERSION);
-        }
-        return (int) v;
-    }
-
-    private static void createSchema(Connection c, Path file) throws SQLException {
-        try (Statement s = c.createStatement()) {
-            s.execute("BEGIN IMMEDIATE");
-            try {
-                boolean exists;
-                try (ResultSet r = s.executeQuery(
-                        "SELECT count(*) FROM sqlite_schema WHERE type = 'table' AND name = 'schema_version'")) {
-                    exists = r.next() && r.getInt(1) > 0;
-                }
-                if (!exists) {
-                    for (String ddl : SCHEMA) {
-                        s.execute(ddl);
-                    }
-                    s.execute("INSERT INTO schema_version (version) VALUES (" + SCHEMA_VERSION + ")");
-                }
-                s.execute("COMMIT");
-            } catch (SQLException | RuntimeException e) {
-                rollbackQuietly(s);
-                throw e;
-            }
-        }
-        readSchemaVersion(c, file);
-    }
-
     /** The database file. */
     public Path file() {
         return file;
@@ -328,7 +182,7 @@ public final class ResultsStore implements AutoCloseable {
                 int inserted;
                 try (PreparedStatement ps = c.prepareStatement("INSERT INTO runs (run_key, kind, config, model_hash,"
                         + " data_hash, preprocessing, lesion_mode, mode_seed, seed, cruxset_version, jvm, os, arch,"
-                        + " started_at, status) VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)"
+                        + " started_at, status, split_id) VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)"
                         + " ON CONFLICT (run_key) DO NOTHING")) {
                     ps.setString(1, info.runKey());
                     ps.setString(2, info.kind());
@@ -345,12 +199,17 @@ public final class ResultsStore implements AutoCloseable {
                     ps.setString(13, p.arch());
                     ps.setString(14, now());
                     ps.setString(15, RUNNING);
+                    if (info.splitId() == null) {
+                        ps.setNull(16, Types.INTEGER);
+                    } else {
+                        ps.setLong(16, info.splitId());
+                    }
                     inserted = ps.executeUpdate();
                 }
                 long id;
                 boolean finished;
                 try (PreparedStatement ps = c.prepareStatement("SELECT id, kind, model_hash, data_hash, preprocessing,"
-                        + " lesion_mode, mode_seed, seed, status FROM runs WHERE run_key = ?")) {
+                        + " lesion_mode, mode_seed, seed, status, split_id FROM runs WHERE run_key = ?")) {
                     ps.setString(1, info.runKey());
                     try (ResultSet r = ps.executeQuery()) {
                         r.next();
@@ -363,6 +222,9 @@ public final class ResultsStore implements AutoCloseable {
                         compare(differ, "lesion_mode", r.getString(6), info.mode().label());
                         compare(differ, "mode_seed", Long.toString(r.getLong(7)), Long.toString(info.modeSeed()));
                         compare(differ, "seed", Long.toString(r.getLong(8)), Long.toString(info.seed()));
+                        long split = r.getLong(10);
+                        compare(differ, "split_id", r.wasNull() ? "NULL" : Long.toString(split),
+                                info.splitId() == null ? "NULL" : Long.toString(info.splitId()));
                         if (!differ.isEmpty()) {
                             throw new StoreException(file, "run '" + info.runKey() + "' (id " + id + ") exists with "
                                     + "other settings: " + String.join("; ", differ)
@@ -535,6 +397,133 @@ public final class ResultsStore implements AutoCloseable {
                 ps.executeBatch();
             }
         }
+    }
+
+    /**
+     * Records how held-out subjects were split into parts (both parts' datasets must be registered first) and
+     * returns the split's id; recording the same split again returns the same id, and one with the same part data,
+     * seed and fraction but other subjects fails.
+     */
+    public long registerSplit(PartSplit split) {
+        Objects.requireNonNull(split, "split");
+        synchronized (lock) {
+            return inTransaction("record the split of held-out subjects (seed " + split.seed() + ")", c -> {
+                try (PreparedStatement ps = c.prepareStatement("SELECT id FROM part_splits WHERE search_hash = ?"
+                        + " AND confirm_hash IS ? AND split_seed = ? AND confirm_fraction = ?")) {
+                    ps.setString(1, split.searchHash());
+                    ps.setString(2, split.confirmationHash());
+                    ps.setLong(3, split.seed());
+                    ps.setDouble(4, split.confirmFraction());
+                    try (ResultSet r = ps.executeQuery()) {
+                        if (r.next()) {
+                            long id = r.getLong(1);
+                            PartSplit stored = readSplit(c, id);
+                            if (!stored.equals(split)) {
+                                throw new StoreException(file, "split " + id + " (seed " + split.seed()
+                                        + ") is stored with other subjects: " + stored + " in the store, " + split
+                                        + " now");
+                            }
+                            return id;
+                        }
+                    }
+                }
+                long id;
+                try (PreparedStatement ps = c.prepareStatement("INSERT INTO part_splits (split_seed,"
+                        + " confirm_fraction, search_hash, confirm_hash, created_at) VALUES (?, ?, ?, ?, ?)",
+                        Statement.RETURN_GENERATED_KEYS)) {
+                    ps.setLong(1, split.seed());
+                    ps.setDouble(2, split.confirmFraction());
+                    ps.setString(3, split.searchHash());
+                    ps.setString(4, split.confirmationHash());
+                    ps.setString(5, now());
+                    ps.executeUpdate();
+                    try (ResultSet k = ps.getGeneratedKeys()) {
+                        k.next();
+                        id = k.getLong(1);
+                    }
+                }
+                try (PreparedStatement ps = c.prepareStatement(
+                        "INSERT INTO part_subjects (split_id, subject, part) VALUES (?, ?, ?)")) {
+                    for (String subject : split.searchSubjects()) {
+                        ps.setLong(1, id);
+                        ps.setString(2, subject);
+                        ps.setString(3, PartSplit.SEARCH);
+                        ps.addBatch();
+                    }
+                    for (String subject : split.confirmationSubjects()) {
+                        ps.setLong(1, id);
+                        ps.setString(2, subject);
+                        ps.setString(3, PartSplit.CONFIRMATION);
+                        ps.addBatch();
+                    }
+                    ps.executeBatch();
+                }
+                return id;
+            });
+        }
+    }
+
+    /** The split with row id {@code id}, or empty when there is none. */
+    public java.util.Optional<PartSplit> split(long id) {
+        synchronized (lock) {
+            requireOpen();
+            try {
+                return java.util.Optional.ofNullable(readSplit(connection, id));
+            } catch (SQLException e) {
+                throw new StoreException(file, "cannot read split " + id + ": " + e.getMessage(), e);
+            }
+        }
+    }
+
+    /** The split a run scored under, or empty for a run without one (e.g. made by a version-1 store). */
+    public java.util.Optional<PartSplit> splitOfRun(long runId) {
+        synchronized (lock) {
+            requireOpen();
+            try (PreparedStatement ps = connection.prepareStatement("SELECT split_id FROM runs WHERE id = ?")) {
+                ps.setLong(1, runId);
+                try (ResultSet r = ps.executeQuery()) {
+                    if (!r.next()) {
+                        throw new StoreException(file, "no run with id " + runId);
+                    }
+                    long id = r.getLong(1);
+                    return r.wasNull() ? java.util.Optional.empty() : java.util.Optional.ofNullable(readSplit(connection, id));
+                }
+            } catch (SQLException e) {
+                throw new StoreException(file, "cannot read the split of run " + runId + ": " + e.getMessage(), e);
+            }
+        }
+    }
+
+    private PartSplit readSplit(Connection c, long id) throws SQLException {
+        long seed;
+        double fraction;
+        String search;
+        String confirm;
+        try (PreparedStatement ps = c.prepareStatement("SELECT split_seed, confirm_fraction, search_hash,"
+                + " confirm_hash FROM part_splits WHERE id = ?")) {
+            ps.setLong(1, id);
+            try (ResultSet r = ps.executeQuery()) {
+                if (!r.next()) {
+                    return null;
+                }
+                seed = r.getLong(1);
+                fraction = r.getDouble(2);
+                search = r.getString(3);
+                confirm = r.getString(4);
+            }
+        }
+        List<String> searchSubjects = new ArrayList<>();
+        List<String> confirmSubjects = new ArrayList<>();
+        try (PreparedStatement ps = c.prepareStatement(
+                "SELECT subject, part FROM part_subjects WHERE split_id = ? ORDER BY subject")) {
+            ps.setLong(1, id);
+            try (ResultSet r = ps.executeQuery()) {
+                while (r.next()) {
+                    (PartSplit.SEARCH.equals(r.getString(2)) ? searchSubjects : confirmSubjects).add(r.getString(1));
+                }
+            }
+        }
+        return new PartSplit(seed, fraction, search, confirm, searchSubjects, confirmSubjects);
     }
 
     /** The stored evaluations among {@code keys} (absent keys are left out), found with batched queries. */
@@ -1020,7 +1009,14 @@ public final class ResultsStore implements AutoCloseable {
 
     /** What a run is: its key (one per command), kind, full config, the evaluation identity it scores under, and seed. */
     public record RunInfo(String runKey, String kind, String config, String modelHash, String dataHash,
-                          String preprocessing, LesionMode mode, long modeSeed, long seed, Provenance provenance) {
+                          String preprocessing, LesionMode mode, long modeSeed, long seed, Provenance provenance,
+                          Long splitId) {
+        /** A run that scores without a recorded split of held-out subjects into parts. */
+        public RunInfo(String runKey, String kind, String config, String modelHash, String dataHash,
+                       String preprocessing, LesionMode mode, long modeSeed, long seed, Provenance provenance) {
+            this(runKey, kind, config, modelHash, dataHash, preprocessing, mode, modeSeed, seed, provenance, null);
+        }
+
         public RunInfo {
             Objects.requireNonNull(runKey, "runKey");
             Objects.requireNonNull(kind, "kind");

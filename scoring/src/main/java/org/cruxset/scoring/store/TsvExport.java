@@ -23,7 +23,10 @@ import org.cruxset.scoring.lesion.RegionSet;
  * Writes the tables of a results store as UTF-8 tab-separated files with a header row, for reading from Python
  * ({@code pandas.read_csv(f, sep="\t")}, {@code csv.reader(f, delimiter="\t")}) or R ({@code read.delim(f)}):
  * {@code runs.tsv}, {@code evaluations.tsv}, {@code run_evaluations.tsv}, {@code outcomes.tsv} (one row per
- * evaluation and sample) and {@code datasets.tsv} (one row per registered sample).
+ * evaluation and sample), {@code datasets.tsv} (one row per registered sample), {@code part_splits.tsv} (one row per
+ * split of held-out subjects into a search and a confirmation part) and {@code part_subjects.tsv} (each subject's
+ * part). A store of an older schema version is exported as it is, without migrating it: what it lacks (e.g. the
+ * splits of a version-1 store) is written as empty fields or header-only files.
  *
  * <p>A NULL (and a NaN score) is an empty field; doubles are written by {@link Double#toString(double)}, which parses
  * back to the same double; true-class probabilities (float32 in the store) are written as the exact double value of
@@ -35,7 +38,7 @@ import org.cruxset.scoring.lesion.RegionSet;
 public final class TsvExport {
     /** The files written, in writing order. */
     public static final List<String> FILES = List.of("runs.tsv", "evaluations.tsv", "run_evaluations.tsv",
-            "outcomes.tsv", "datasets.tsv");
+            "outcomes.tsv", "datasets.tsv", "part_splits.tsv", "part_subjects.tsv");
 
     private TsvExport() {
     }
@@ -51,12 +54,14 @@ public final class TsvExport {
         try (Connection c = ResultsStore.openReadOnly(file); Statement s = c.createStatement()) {
             s.execute("BEGIN");
             try {
+                int version = StoreSchema.readVersion(c, file);
                 Map<String, Dataset> datasets = readDatasets(c);
-                writeRuns(c, outDir.resolve("runs.tsv"));
+                writeRuns(c, version, outDir.resolve("runs.tsv"));
                 writeEvaluations(c, outDir.resolve("evaluations.tsv"));
                 writeRunEvaluations(c, outDir.resolve("run_evaluations.tsv"));
                 writeOutcomes(c, file, datasets, outDir.resolve("outcomes.tsv"));
                 writeDatasets(datasets, outDir.resolve("datasets.tsv"));
+                writeSplits(c, version, outDir.resolve("part_splits.tsv"), outDir.resolve("part_subjects.tsv"));
             } finally {
                 s.execute("ROLLBACK");
             }
@@ -93,24 +98,59 @@ public final class TsvExport {
         return out;
     }
 
-    private static void writeRuns(Connection c, Path out) throws SQLException {
+    private static void writeRuns(Connection c, int version, Path out) throws SQLException {
         try (Statement s = c.createStatement();
              ResultSet r = s.executeQuery("SELECT id, run_key, kind, status, started_at, ended_at, model_hash,"
                      + " data_hash, preprocessing, lesion_mode, mode_seed, seed,"
                      + " (SELECT count(*) FROM run_evaluations re WHERE re.run_id = runs.id),"
                      + " (SELECT total(cost) FROM (SELECT cost FROM run_evaluations re WHERE re.run_id = runs.id"
                      + " ORDER BY position)),"
-                     + " cruxset_version, jvm, os, arch, config FROM runs ORDER BY id");
+                     + " cruxset_version, jvm, os, arch, config, " + (version >= 2 ? "split_id" : "NULL")
+                     + " FROM runs ORDER BY id");
              Table t = new Table(out, "id", "run_key", "kind", "status", "started_at", "ended_at", "model_hash",
                      "data_hash", "preprocessing", "lesion_mode", "mode_seed", "seed", "evaluations", "spent",
-                     "cruxset_version", "jvm", "os", "arch", "config")) {
+                     "cruxset_version", "jvm", "os", "arch", "config", "split_id")) {
             while (r.next()) {
                 t.integer(r.getLong(1)).text(r.getString(2)).text(r.getString(3)).text(r.getString(4))
                         .text(r.getString(5)).text(r.getString(6)).text(r.getString(7)).text(r.getString(8))
                         .text(r.getString(9)).text(r.getString(10)).integer(r.getLong(11)).integer(r.getLong(12))
                         .integer(r.getLong(13)).real(ResultsStore.getReal(r, 14)).text(r.getString(15))
                         .text(r.getString(16)).text(r.getString(17)).text(r.getString(18)).text(r.getString(19))
-                        .end();
+                        .text(r.getString(20)).end();
+            }
+            t.commit();
+        }
+    }
+
+    private static void writeSplits(Connection c, int version, Path splits, Path subjects) throws SQLException {
+        try (Table t = new Table(splits, "id", "split_seed", "confirm_fraction", "search_hash", "confirm_hash",
+                "search_subjects", "confirmation_subjects", "created_at")) {
+            if (version >= 2) {
+                try (Statement s = c.createStatement();
+                     ResultSet r = s.executeQuery("SELECT id, split_seed, confirm_fraction, search_hash, confirm_hash,"
+                             + " (SELECT count(*) FROM part_subjects p WHERE p.split_id = part_splits.id"
+                             + " AND p.part = 'search'),"
+                             + " (SELECT count(*) FROM part_subjects p WHERE p.split_id = part_splits.id"
+                             + " AND p.part = 'confirmation'),"
+                             + " created_at FROM part_splits ORDER BY id")) {
+                    while (r.next()) {
+                        t.integer(r.getLong(1)).integer(r.getLong(2)).real(r.getDouble(3)).text(r.getString(4))
+                                .text(r.getString(5)).integer(r.getLong(6)).integer(r.getLong(7)).text(r.getString(8))
+                                .end();
+                    }
+                }
+            }
+            t.commit();
+        }
+        try (Table t = new Table(subjects, "split_id", "subject", "part")) {
+            if (version >= 2) {
+                try (Statement s = c.createStatement();
+                     ResultSet r = s.executeQuery("SELECT split_id, subject, part FROM part_subjects"
+                             + " ORDER BY split_id, part DESC, subject")) {
+                    while (r.next()) {
+                        t.integer(r.getLong(1)).text(r.getString(2)).text(r.getString(3)).end();
+                    }
+                }
             }
             t.commit();
         }

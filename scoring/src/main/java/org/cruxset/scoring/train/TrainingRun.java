@@ -17,7 +17,9 @@ import org.cruxset.scoring.decoder.InputBatch;
 import org.cruxset.scoring.lesion.ReferenceStats;
 import org.cruxset.scoring.decoder.InputMask;
 import org.cruxset.scoring.decoder.Preprocessing;
+import org.cruxset.scoring.eval.CollapseCriterion;
 import org.cruxset.scoring.eval.ModelInputs;
+import org.cruxset.scoring.eval.Parts;
 import org.cruxset.scoring.eval.SetScore;
 import org.cruxset.scoring.onnx.OnnxGruWriter;
 import org.cruxset.scoring.onnx.OnnxModels;
@@ -29,7 +31,8 @@ import org.cruxset.scoring.simulate.TruthFile;
  * Trains a decoder on a cohort, saves it as ONNX (with each region's mean and variance over the training split, the
  * reference of the mean and noise lesion modes), loads the saved file back (so what is evaluated is what was
  * written) and scores it on the test split; where the cohort has a {@code truth.json}, adds the decoder's own
- * truth to it by lesioning every subset of the planted pool.
+ * truth to it by lesioning every subset of the planted pool on the search part of the test subjects (and confirming
+ * the smallest critical sets on the confirmation part), as {@link org.cruxset.scoring.eval.ScoringSession} splits them.
  */
 public final class TrainingRun {
     private TrainingRun() {
@@ -42,10 +45,12 @@ public final class TrainingRun {
 
     /**
      * Runs training. Splits come from the manifest, or are drawn by subject from {@code config.seed()} (60/20/20)
-     * when the manifest has none. {@code truthFile} may be null or absent; {@code alpha} is the collapse level.
+     * when the manifest has none. {@code truthFile} may be null or absent; the truth is judged under each of
+     * {@code criteria} (the first is the default) on the parts drawn with {@code splitSeed} and {@code confirm}.
      */
     public static Summary run(Cohort cohort, Preprocessing pre, TrainingConfig config, Path modelOut, Path truthFile,
-                              double alpha, GruTrainer.Listener listener) {
+                              List<CollapseCriterion> criteria, long splitSeed, double confirm,
+                              GruTrainer.Listener listener) {
         Cohort split = SubjectSplits.resolve(cohort, config.seed(), 0.6, 0.2, 0.2);
         int nTrain = split.split(Split.TRAIN).size();
         int nVal = split.split(Split.VALIDATION).size();
@@ -86,7 +91,12 @@ public final class TrainingRun {
                         throw new IllegalArgumentException(truthFile + ": pool region '" + pool.get(i) + "' is not a model input");
                     }
                 }
-                truth = DecoderTruth.compute(decoder, test, pool, positions, alpha, config.threads());
+                Parts parts = Parts.split(split.split(Split.TEST), splitSeed, confirm);
+                ModelInputs search = ModelInputs.prepare(decoder.card(), split.atlas(), parts.search());
+                ModelInputs confirmation = parts.hasConfirmation()
+                        ? ModelInputs.prepare(decoder.card(), split.atlas(), parts.confirmation()) : null;
+                truth = DecoderTruth.compute(decoder, parts, search, confirmation, pool, positions, criteria,
+                        config.threads());
                 TruthFile.writeDecoderTruth(truthFile, decoder.card().modelHash(), truth);
             }
             return new Summary(modelOut, trained.result(), score, truth, decoder.card().modelHash(), nTrain, nVal, nTest);

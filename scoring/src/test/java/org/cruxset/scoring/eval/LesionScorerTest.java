@@ -40,7 +40,7 @@ class LesionScorerTest {
     }
 
     private static LesionScorer scorer(Fixture f, ResultsStore store, ResultsStore.Run run, Budget budget) {
-        return new LesionScorer(f.decoder(), f.inputs(), LesionMode.ZERO, 0, LesionFill.ZERO, store, run, budget, 2,
+        return new LesionScorer(f.decoder(), f.inputs(), LesionMode.ZERO, 0, LesionFill.ZERO, store, run, budget, 1.0, 2,
                 p -> f.atlas().region(p).name());
     }
 

@@ -49,6 +49,15 @@ class ReferenceStatsTest {
     }
 
     @Test
+    void metadataKeysComeInAFixedOrderSoSavedModelsAreByteIdentical() {
+        // An immutable Map.copyOf iterates in an order salted per JVM: a model written from it could differ in bytes
+        // between two runs with the same seed.
+        Map<String, String> m = new ReferenceStats(new float[] {1f}, new float[] {2f}).toMetadata();
+        assertEquals(java.util.List.of(ReferenceStats.MEAN_KEY, ReferenceStats.VARIANCE_KEY),
+                java.util.List.copyOf(m.keySet()));
+    }
+
+    @Test
     void malformedMetadataNamesTheKey() {
         Map<String, String> ok = new ReferenceStats(new float[] {1f, 2f}, new float[] {3f, 4f}).toMetadata();
         assertError(with(ok, ReferenceStats.MEAN_KEY, null), "cruxset.reference.mean");

@@ -354,13 +354,17 @@ class ResultsStoreTest {
         }
         try (Connection c = DriverManager.getConnection("jdbc:sqlite:" + db());
              Statement s = c.createStatement()) {
-            s.execute("UPDATE schema_version SET version = 2");
+            s.execute("UPDATE schema_version SET version = " + (ResultsStore.SCHEMA_VERSION + 1));
         }
         ResultsStore.StoreException e = assertThrows(ResultsStore.StoreException.class, () -> ResultsStore.open(db()));
         assertEquals(db().toAbsolutePath(), e.file());
         assertTrue(e.getMessage().startsWith(db().toAbsolutePath() + ": "), e.getMessage());
-        assertTrue(e.getMessage().contains("newer Cruxset") && e.getMessage().contains("schema version 2")
-                && e.getMessage().contains("schema version 1"), e.getMessage());
+        assertTrue(e.getMessage().contains("newer Cruxset")
+                && e.getMessage().contains("schema version " + (ResultsStore.SCHEMA_VERSION + 1))
+                && e.getMessage().contains("schema version " + ResultsStore.SCHEMA_VERSION), e.getMessage());
+        ResultsStore.StoreException export = assertThrows(ResultsStore.StoreException.class,
+                () -> TsvExport.export(db(), dir.resolve("export")));
+        assertTrue(export.getMessage().contains("newer Cruxset"), export.getMessage());
     }
 
     @Test
@@ -418,9 +422,16 @@ class ResultsStoreTest {
         try (InputStream in = ResultsStore.class.getResourceAsStream("SCHEMA.md")) {
             md = new String(in.readAllBytes(), StandardCharsets.UTF_8);
         }
-        String sql = md.substring(md.indexOf("```sql\n") + 7, md.lastIndexOf("```"));
-        assertEquals(String.join(";\n\n", ResultsStore.SCHEMA) + ";\n", sql,
-                "SCHEMA.md must show exactly ResultsStore.SCHEMA");
+        List<String> blocks = new ArrayList<>();
+        for (int at = md.indexOf("```sql\n"); at >= 0; at = md.indexOf("```sql\n", at + 1)) {
+            blocks.add(md.substring(at + 7, md.indexOf("```", at + 7)));
+        }
+        assertEquals(StoreSchema.STEPS.size(), blocks.size(), "one sql block per schema version");
+        for (int v = 0; v < blocks.size(); v++) {
+            assertEquals(String.join(";\n\n", StoreSchema.STEPS.get(v)) + ";\n", blocks.get(v),
+                    "SCHEMA.md must show exactly the statements of version " + (v + 1));
+            assertTrue(md.contains("### Version " + (v + 1)), "a heading for version " + (v + 1));
+        }
         assertTrue(md.contains("# Results store schema (version " + ResultsStore.SCHEMA_VERSION + ")"));
     }
 }

@@ -9,14 +9,14 @@ import java.util.concurrent.Callable;
 import org.cruxset.scoring.cohort.Cohort;
 import org.cruxset.scoring.cohort.CohortFiles;
 import org.cruxset.scoring.decoder.Decoder;
-import org.cruxset.scoring.decoder.InputMask;
-import org.cruxset.scoring.eval.HeldOut;
-import org.cruxset.scoring.eval.ModelInputs;
-import org.cruxset.scoring.eval.CollapseCriterion;
+import org.cruxset.scoring.eval.LesionScorer;
+import org.cruxset.scoring.eval.ScoringSession;
 import org.cruxset.scoring.eval.SetScore;
+import org.cruxset.scoring.lesion.LesionSpec;
 import org.cruxset.scoring.lesion.RegionSet;
 import org.cruxset.scoring.onnx.OnnxModels;
 import org.cruxset.scoring.onnx.OnnxOptions;
+import org.cruxset.scoring.simulate.SimulatedCohorts;
 import org.cruxset.scoring.simulate.TruthFile;
 import picocli.CommandLine.Command;
 import picocli.CommandLine.Mixin;
@@ -26,18 +26,25 @@ import picocli.CommandLine.Spec;
 
 /** {@code cruxset demo}: the main job on the bundled synthetic cohort and its trained decoder. */
 @Command(name = "demo", mixinStandardHelpOptions = true,
-        description = {"Run Cruxset on the bundled synthetic demo: the decoder's held-out accuracy, and what lesioning",
-            "its known critical regions (and, as a control, as many decoy regions) does to it."})
+        description = {"Run Cruxset on the bundled synthetic demo: the decoder's held-out accuracy on the search and",
+            "confirmation parts, and what lesioning its smallest critical set (and, as a control, as many decoy regions)",
+            "does to it. The demo cohort is generated from DIR/demo.yaml on first use (a few seconds)."})
 public final class DemoCommand implements Callable<Integer> {
+    /** The demo's settings, decoder and committed truth inside the demo folder. */
+    static final String CONFIG = "demo.yaml";
+    static final String MODEL = "model.onnx";
+    static final String TRUTH = "truth.json";
+    static final String COHORT = "cohort";
+
     @Spec
     CommandSpec spec;
 
     @Option(names = "--demo", defaultValue = "demo-data", paramLabel = "DIR",
-            description = "Folder of the bundled demo (cohort/ and model.onnx). Default: ${DEFAULT-VALUE}.")
+            description = "Folder of the bundled demo (demo.yaml, model.onnx, truth.json; cohort/ is generated). Default: ${DEFAULT-VALUE}.")
     Path demo;
 
-    @Option(names = "--alpha", paramLabel = "A", defaultValue = "0.05", description = "Level of the collapse test. Default: ${DEFAULT-VALUE}.")
-    double alpha;
+    @Mixin
+    ScoringOptions scoring;
 
     @Mixin
     ThreadOptions threads;
@@ -45,59 +52,120 @@ public final class DemoCommand implements Callable<Integer> {
     @Override
     public Integer call() {
         PrintWriter pw = spec.commandLine().getOut();
-        Path cohortDir = demo.resolve("cohort");
-        Path modelFile = demo.resolve("model.onnx");
-        Path truth = cohortDir.resolve(TruthFile.NAME);
-        for (Path p : List.of(cohortDir, modelFile, truth)) {
+        Path cohortDir = demo.resolve(COHORT);
+        Path modelFile = demo.resolve(MODEL);
+        Path truth = demo.resolve(TRUTH);
+        for (Path p : List.of(demo.resolve(CONFIG), modelFile, truth)) {
             if (!Files.exists(p)) {
                 throw new IllegalArgumentException(p + " not found: run from the repository root, or pass --demo DIR");
             }
         }
-        int t = threads.threads();
         pw.println(Reports.CAUTION);
         pw.println();
+        if (SimulatedCohorts.ensure(demo.resolve(CONFIG), cohortDir)) {
+            pw.printf("Generated the demo cohort from %s into %s (first use).%n", demo.resolve(CONFIG), cohortDir);
+        }
+        List<String> differ = TruthFile.summary(cohortDir.resolve(TruthFile.NAME)).differences(TruthFile.summary(truth));
+        if (!differ.isEmpty()) {
+            pw.printf("Note: the demo cohort generated here differs from the one the bundled decoder's truth was computed "
+                    + "on (%s): figures may differ a little from the README's.%n", String.join("; ", differ));
+        }
         Cohort c = CohortFiles.read(cohortDir);
         Reports.cohort(pw, c);
-        try (Decoder decoder = OnnxModels.load(modelFile, OnnxOptions.defaults())) {
+        String command = "demo " + String.join(" ", spec.commandLine().getParseResult().originalArgs());
+        ScoringSession.Settings settings = scoring.settings("demo", command, 0, Double.POSITIVE_INFINITY,
+                threads.threads());
+        try (Decoder decoder = OnnxModels.load(modelFile, OnnxOptions.defaults());
+             ScoringSession session = ScoringSession.open(decoder, c, settings)) {
             Reports.model(pw, decoder.card());
-            HeldOut held = HeldOut.of(c, decoder.card());
-            ModelInputs in = ModelInputs.prepare(decoder.card(), c.atlas(), held.samples());
-            List<List<String>> critical = TruthFile.decoderMinimumSets(truth);
-            List<String> decoys = TruthFile.decoys(truth);
-            List<String> set = critical.get(0);
-            List<String> control = decoys.subList(0, Math.min(decoys.size(), set.size()));
-            List<InputMask> masks = List.of(InputMask.none(in.batch().regions()), mask(decoder, set), mask(decoder, control));
-            float[][][] probs = decoder.bind(in.batch()).probabilities(masks, t);
-            List<SetScore> scores = new ArrayList<>();
-            for (float[][] p : probs) {
-                scores.add(SetScore.of(p, in));
-            }
-            CollapseCriterion crit = new CollapseCriterion(CollapseCriterion.Kind.BINOMIAL, alpha);
             pw.println();
-            Reports.score(pw, "Intact decoder on the " + held.description(), scores.get(0));
-            Reports.score(pw, "Lesion " + set + " (a minimal critical set of this decoder)", scores.get(1));
-            pw.printf("  -> %s at alpha %.2f%n", crit.critical(scores.get(1), scores.get(0)) ? "CRITICAL: accuracy not significantly above chance"
-                    : "not critical", alpha);
-            Reports.score(pw, "Lesion " + control + " (as many decoy regions, the control)", scores.get(2));
-            pw.printf("  -> %s at alpha %.2f%n", crit.critical(scores.get(2), scores.get(0)) ? "CRITICAL" : "not critical: decoding survives", alpha);
-            pw.printf("%nAll %d critical sets of minimum size: %s%n", critical.size(), critical);
+            pw.printf("Held-out data: %s.%n", session.heldOut().description());
+            Reports.parts(pw, session);
+            String criterion = session.settings().criterion().label();
+            List<List<String>> smallest = truthSets(truth, criterion, pw);
+            int size = smallest.get(0).size();
+            List<String> decoys = TruthFile.decoys(truth);
+            List<String> control = decoys.subList(0, Math.min(decoys.size(), size));
+            pw.printf("Lesion mode: %s. Critical means %s.%n", session.settings().mode().label(),
+                    session.settings().criterion().describe());
+            pw.printf("The decoder's own truth (every subset of the 10-region planted pool lesioned, scored on the "
+                    + "search part) has %d smallest critical set(s) of size %d.%n", smallest.size(), size);
+            pw.println();
+            List<RegionSet> sets = new ArrayList<>();
+            for (List<String> m : smallest) {
+                sets.add(inputs(session, m));
+            }
+            sets.add(inputs(session, control));
+            List<LesionScorer.Scored> searched = session.scorer().score(sets);
+            List<LesionScorer.Scored> confirmed = session.confirmation().map(p -> p.scorer().score(sets)).orElse(null);
+            List<String[]> rows = new ArrayList<>();
+            rows.add(new String[] {"lesion", "size", "search accuracy (95% Wilson)", "search",
+                "confirmation accuracy (95% Wilson)", "confirmation"});
+            rows.add(row("(none: intact)", 0, session.search(), session.intact().score(),
+                    session.confirmation().map(p -> p.intact().score()).orElse(null), session));
+            for (int i = 0; i <= smallest.size(); i++) {
+                boolean isControl = i == smallest.size();
+                List<String> regions = isControl ? control : smallest.get(i);
+                rows.add(row(String.join(",", regions) + (isControl ? " (as many decoys)" : ""), regions.size(),
+                        session.search(), searched.get(i).score(), confirmed == null ? null : confirmed.get(i).score(),
+                        session));
+            }
+            Table.print(pw, rows);
+            pw.println();
+            if (confirmed == null) {
+                pw.println("No confirmation part: the verdicts above were reached on the samples the truth was computed "
+                        + "on, so they are optimistic.");
+            } else {
+                ScoringSession.Part confirmation = session.confirmation().get();
+                int ok = 0;
+                for (int i = 0; i < smallest.size(); i++) {
+                    boolean searchCritical = session.critical(searched.get(i).score());
+                    boolean confirmCritical = confirmation.critical(confirmed.get(i).score());
+                    if (searchCritical && confirmCritical) {
+                        ok++;
+                    } else {
+                        pw.printf("-> %s is critical on %s: report it as not confirmed.%n",
+                                String.join(",", smallest.get(i)), searchCritical ? "the search part only"
+                                        : confirmCritical ? "the confirmation part only" : "neither part");
+                    }
+                }
+                pw.printf("-> Confirmed: %d of %d smallest critical set(s) found on the search part are also critical on "
+                        + "the confirmation part, whose subjects the truth never saw.%n", ok, smallest.size());
+            }
             pw.printf("%nScore lesions of your own choice (kept and reused in %s):%n"
                     + "  ./cruxset score --model %s --cohort %s --lesion \"%s\" --lesion network:%s --out %s%n",
-                    "cruxset-out/results.sqlite", modelFile, cohortDir, String.join(",", set),
-                    c.atlas().networks().keySet().iterator().next(), "cruxset-out");
+                    scoring.out().resolve(ScoringSession.STORE_FILE), modelFile, cohortDir, String.join(",", smallest.get(0)),
+                    c.atlas().networks().keySet().iterator().next(), scoring.out());
         }
         return 0;
     }
 
-    private static InputMask mask(Decoder decoder, List<String> regions) {
-        List<String> names = decoder.card().regionNames();
-        int[] pos = new int[regions.size()];
-        for (int i = 0; i < pos.length; i++) {
-            pos[i] = names.indexOf(regions.get(i));
-            if (pos[i] < 0) {
-                throw new IllegalArgumentException("region '" + regions.get(i) + "' is not an input of the demo model");
-            }
+    /** The truth's smallest critical sets under {@code criterion}, or under the default one (saying so). */
+    private static List<List<String>> truthSets(Path truth, String criterion, PrintWriter pw) {
+        try {
+            return TruthFile.decoderMinimumSets(truth, criterion);
+        } catch (IllegalArgumentException e) {
+            pw.printf("Note: %s; showing the default criterion's sets.%n", e.getMessage());
+            return TruthFile.decoderMinimumSets(truth);
         }
-        return InputMask.zero(RegionSet.of(decoder.card().regions(), pos));
+    }
+
+    private static RegionSet inputs(ScoringSession session, List<String> regions) {
+        return session.toInputs(LesionSpec.parse(String.join(",", regions), session.cohort().atlas()));
+    }
+
+    private static String[] row(String name, int size, ScoringSession.Part search, SetScore s, SetScore confirm,
+                                ScoringSession session) {
+        return new String[] {name, Integer.toString(size), accuracy(s), size == 0 ? "-" : verdict(search.critical(s)),
+            confirm == null ? "-" : accuracy(confirm),
+            confirm == null || size == 0 ? "-" : verdict(session.confirmation().get().critical(confirm))};
+    }
+
+    private static String accuracy(SetScore s) {
+        return String.format("%.3f (%.3f-%.3f), n = %d", s.accuracy(), s.wilsonLow(), s.wilsonHigh(), s.n());
+    }
+
+    private static String verdict(boolean critical) {
+        return critical ? "CRITICAL" : "survives";
     }
 }

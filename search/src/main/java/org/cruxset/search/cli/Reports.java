@@ -53,6 +53,22 @@ final class Reports {
                         ? "recorded (training split)" : "not recorded (give --reference COHORT to use those modes)");
     }
 
+    /** Says how held-out subjects were split into parts and which part strategies see. */
+    static void parts(PrintWriter pw, org.cruxset.scoring.eval.ScoringSession session) {
+        org.cruxset.scoring.eval.Parts p = session.parts();
+        if (!p.hasConfirmation()) {
+            pw.printf("No confirmation part (--confirm 0): every held-out sample (%d, %d subjects) is in the search "
+                    + "part, so scores of sets selected on them are optimistic (selection bias).%n", p.search().size(),
+                    p.searchSubjects().size());
+            return;
+        }
+        pw.printf("Split by subject (--split-seed %d, --confirm %s) into a search part of %d samples (%d subjects), "
+                        + "which search strategies see and spend their budget on (one scored set = one set scored on "
+                        + "all %d), and a confirmation part of %d samples (%d subjects), never seen by a search.%n",
+                p.seed(), p.confirmFraction(), p.search().size(), p.searchSubjects().size(), p.search().size(),
+                p.confirmation().size(), p.confirmationSubjects().size());
+    }
+
     static void score(PrintWriter pw, String what, SetScore q) {
         pw.printf("%s: accuracy %.3f (95%% Wilson %.3f-%.3f), %d of %d correct; chance %.3f (majority class); "
                         + "one-sided exact binomial p = %.3g%n",

@@ -2,16 +2,12 @@ package org.cruxset.search.cli;
 
 import java.io.IOException;
 import java.io.PrintWriter;
-import java.nio.file.Files;
 import java.nio.file.Path;
-import java.nio.file.StandardCopyOption;
 import java.util.concurrent.Callable;
-import org.cruxset.scoring.cohort.CohortFiles;
 import org.cruxset.scoring.cohort.Split;
-import org.cruxset.scoring.config.YamlConfig;
 import org.cruxset.scoring.simulate.CohortSimulator;
 import org.cruxset.scoring.simulate.PlantedDesign;
-import org.cruxset.scoring.simulate.SimulationConfig;
+import org.cruxset.scoring.simulate.SimulatedCohorts;
 import org.cruxset.scoring.simulate.TruthFile;
 import picocli.CommandLine.Command;
 import picocli.CommandLine.Option;
@@ -42,12 +38,7 @@ public final class SimulateCommand implements Callable<Integer> {
             case "tsv" -> false;
             default -> throw new IllegalArgumentException("--format must be npy or tsv, found '" + format + "'");
         };
-        SimulationConfig cfg = YamlConfig.read(config, SimulationConfig.class);
-        CohortSimulator.Result r = new CohortSimulator(cfg).run();
-        Files.createDirectories(out);
-        CohortFiles.write(r.cohort(), out, npy);
-        TruthFile.writeDesign(out.resolve(TruthFile.NAME), cfg, r.design());
-        Files.copy(config, out.resolve("simulation.yaml"), StandardCopyOption.REPLACE_EXISTING);
+        CohortSimulator.Result r = SimulatedCohorts.write(config, out, npy);
         PrintWriter pw = spec.commandLine().getOut();
         PlantedDesign d = r.design();
         pw.printf("Wrote %d samples (%d subjects; train %d, validation %d, test %d) over %d regions to %s%n",

@@ -2,9 +2,12 @@ package org.cruxset.search.cli;
 
 import java.io.PrintWriter;
 import java.nio.file.Path;
+import java.util.ArrayList;
+import java.util.List;
 import java.util.concurrent.Callable;
 import org.cruxset.scoring.cohort.Cohort;
 import org.cruxset.scoring.decoder.Preprocessing;
+import org.cruxset.scoring.eval.CollapseCriterion;
 import org.cruxset.scoring.eval.SetScore;
 import org.cruxset.scoring.simulate.DecoderTruth;
 import org.cruxset.scoring.simulate.TruthFile;
@@ -61,8 +64,14 @@ public final class TrainCommand implements Callable<Integer> {
             description = "none or zscore (per sample and region; recorded in the model). Default: ${DEFAULT-VALUE}.")
     String preprocessing;
 
-    @Option(names = "--alpha", paramLabel = "A", defaultValue = "0.05", description = "Level of the collapse test used for the decoder's own truth. Default: ${DEFAULT-VALUE}.")
-    double alpha;
+    @Option(names = "--truth-criteria", paramLabel = "C", split = ",", defaultValue = "binomial:0.05,upper:0.1",
+            description = "Collapse criteria under which the decoder's own truth is computed, comma-separated; the "
+                    + "truth's minimum_critical_sets follow the first (see cruxset score --help for the kinds). "
+                    + "Default: ${DEFAULT-VALUE}.")
+    List<String> truthCriteria;
+
+    @Mixin
+    PartOptions parts;
 
     @Mixin
     ThreadOptions threads;
@@ -75,7 +84,12 @@ public final class TrainCommand implements Callable<Integer> {
         PrintWriter pw = spec.commandLine().getOut();
         Path truth = cohort.folder().resolve(TruthFile.NAME);
         ProgressBar bar = new ProgressBar(spec.commandLine().getErr(), "training");
-        TrainingRun.Summary s = TrainingRun.run(c, Preprocessing.parse(preprocessing), cfg, out, truth, alpha,
+        List<CollapseCriterion> criteria = new ArrayList<>();
+        for (String text : truthCriteria) {
+            criteria.add(CollapseCriterion.parse(text));
+        }
+        TrainingRun.Summary s = TrainingRun.run(c, Preprocessing.parse(preprocessing), cfg, out, truth, criteria,
+                parts.splitSeed(), parts.confirm(),
                 (e, max, improved) -> bar.update(e.epoch(), max, String.format("train loss %.3f, validation loss %.3f, accuracy %.3f%s",
                         e.trainLoss(), e.validationLoss(), e.validationAccuracy(), improved ? " *" : "")));
         bar.done();
@@ -87,8 +101,21 @@ public final class TrainCommand implements Callable<Integer> {
                 q.accuracy(), q.wilsonLow(), q.wilsonHigh(), q.n(), q.chance(), q.pValue());
         DecoderTruth tr = s.truth();
         if (tr != null) {
-            pw.printf("Decoder's own truth (%d lesioned subsets of the planted pool): minimum critical sets %s%n",
-                    tr.sets().size(), tr.minimumCriticalSets());
+            pw.printf("Decoder's own truth: %d lesioned subsets of the planted pool scored on the search part (%d samples"
+                    + "); %s%n", tr.sets().size(), tr.intact().n(), tr.parts().hasConfirmation()
+                    ? "smallest critical sets re-scored on the confirmation part (" + tr.confirmationIntact().n()
+                    + " samples)" : "no confirmation part");
+            for (DecoderTruth.Verdicts v : tr.verdicts()) {
+                pw.printf("  %s: minimum critical sets %s", v.criterion().label(), v.minimumCriticalSets());
+                if (!v.confirmed().isEmpty()) {
+                    int ok = 0;
+                    for (DecoderTruth.Confirmed x : v.confirmed()) {
+                        ok += x.critical() ? 1 : 0;
+                    }
+                    pw.printf(", %d of %d critical on the confirmation part", ok, v.confirmed().size());
+                }
+                pw.println();
+            }
             pw.printf("Written to %s%n", truth);
         }
         return 0;
