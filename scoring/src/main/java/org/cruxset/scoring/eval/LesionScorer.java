@@ -6,6 +6,9 @@ import java.util.LinkedHashMap;
 import java.util.List;
 import java.util.Map;
 import java.util.Objects;
+import java.util.Set;
+import java.util.HashSet;
+import java.util.LinkedHashSet;
 import org.cruxset.scoring.decoder.Decoder;
 import org.cruxset.scoring.decoder.InputMask;
 import org.cruxset.scoring.decoder.LesionFill;
@@ -20,7 +23,8 @@ import org.cruxset.scoring.store.ResultsStore;
  * this run already paid for is replayed free; a set another run stored is charged to this run's budget (so
  * strategies compare on equal budgets) but costs no decoder time; only the rest is decoded, in chunks that are
  * committed as they finish, so a killed run loses at most the chunk in flight. Not thread-safe; it parallelises
- * decoding itself.
+ * decoding itself. A batch is handled in time linear in its size, and memory stays bounded however many sets a run
+ * scores (a size-capped cache in front of the store).
  *
  * <p>Each set costs {@code costPerSet} of the budget unit: 1 for the search part (the unit is one set scored on all
  * of its samples), 0 for the confirmation part, whose scores are reported beside the search but never charged.
@@ -55,7 +59,7 @@ public final class LesionScorer {
     private final int threads;
     private final int chunk;
     private final java.util.function.IntFunction<String> regionName;
-    private final Map<RegionSet, Scored> memo = new HashMap<>();
+    private final Map<RegionSet, Scored> memo;
     private int decoded;
     private int stored;
     private int replayed;
@@ -90,9 +94,31 @@ public final class LesionScorer {
         this.threads = threads;
         this.chunk = Math.max(1, Math.min(64, 4 * threads));
         this.regionName = Objects.requireNonNull(regionName, "regionName");
+        this.memo = store == null ? new HashMap<>() : boundedCache(inputs.size());
         if (store != null) {
             store.registerDataset(dataHash, inputs);
         }
+    }
+
+    /** Megabytes of recent scores kept in memory in front of the store (system property cruxset.scoreCacheMB). */
+    public static final int CACHE_MB = Integer.getInteger("cruxset.scoreCacheMB", 64);
+
+    /**
+     * A least-recently-used cache of scores sized to {@link #CACHE_MB}: with a store behind it, memory does not grow
+     * with the number of sets scored (an evicted set is found again in the store, already paid). Without a store every
+     * score is kept, since memory is then the only record of what was paid.
+     */
+    private static Map<RegionSet, Scored> boundedCache(int samples) {
+        long perEntry = 8L * samples + 400;
+        int max = (int) Math.max(1024, Math.min(Integer.MAX_VALUE, CACHE_MB * 1024L * 1024L / perEntry));
+        return new LinkedHashMap<>(1024, 0.75f, true) {
+            private static final long serialVersionUID = 1L;
+
+            @Override
+            protected boolean removeEldestEntry(Map.Entry<RegionSet, Scored> eldest) {
+                return size() > max;
+            }
+        };
     }
 
     /** The key of a set under this scorer's model, data and mode. */
@@ -139,49 +165,68 @@ public final class LesionScorer {
      * not yet paid for do not fit the budget.
      */
     public List<Scored> score(List<RegionSet> sets) {
+        return score(sets, false);
+    }
+
+    /**
+     * Scores the longest prefix of {@code sets} whose sets not yet paid for fit the budget, and returns the scores
+     * of that prefix (all of {@code sets} when they fit): how a search meets its budget exactly.
+     */
+    public List<Scored> scoreWithinBudget(List<RegionSet> sets) {
+        return score(sets, true);
+    }
+
+    private List<Scored> score(List<RegionSet> sets, boolean truncate) {
         Map<RegionSet, Scored> result = new HashMap<>();
-        List<RegionSet> unknown = new ArrayList<>();
+        Set<RegionSet> unknown = new LinkedHashSet<>();
         for (RegionSet s : sets) {
             if (s.universe() != inputs.batch().regions()) {
                 throw new IllegalArgumentException("set over " + s.universe() + " regions, the model takes "
                         + inputs.batch().regions());
             }
+            if (result.containsKey(s)) {
+                continue;
+            }
             Scored m = memo.get(s);
             if (m != null) {
                 result.put(s, replay(m));
-            } else if (!result.containsKey(s) && !unknown.contains(s)) {
+            } else {
                 unknown.add(s);
             }
         }
+        int keep = sets.size();
         if (!unknown.isEmpty()) {
             Map<EvaluationKey, RegionSet> byKey = new LinkedHashMap<>();
             for (RegionSet s : unknown) {
                 byKey.put(key(s), s);
             }
             Map<EvaluationKey, ResultsStore.Stored> found = store == null ? Map.of() : store.lookup(byKey.keySet());
+            Set<EvaluationKey> paid = store == null ? Set.of() : store.paidAmong(run, found.keySet());
+            Set<RegionSet> unpaid = new HashSet<>();
+            for (Map.Entry<EvaluationKey, RegionSet> e : byKey.entrySet()) {
+                if (!paid.contains(e.getKey())) {
+                    unpaid.add(e.getValue());
+                }
+            }
+            double cost = unpaid.size() * costPerSet;
+            if (!budget.allows(cost)) {
+                if (!truncate) {
+                    throw new IllegalStateException("budget exhausted: " + budget.spent() + " of " + budget.limit()
+                            + " scored sets spent, " + cost + " more needed");
+                }
+                keep = fittingPrefix(sets, unpaid);
+                Set<RegionSet> kept = new HashSet<>(sets.subList(0, keep));
+                byKey.values().removeIf(s -> !kept.contains(s));
+            }
             List<EvaluationKey> reusedKeys = new ArrayList<>();
             List<RegionSet> toDecode = new ArrayList<>();
-            double cost = 0;
             for (Map.Entry<EvaluationKey, RegionSet> e : byKey.entrySet()) {
                 ResultsStore.Stored st = found.get(e.getKey());
-                boolean paid = st != null && run.paid(e.getKey());
-                if (!paid) {
-                    cost += costPerSet;
-                }
                 if (st == null) {
                     toDecode.add(e.getValue());
-                }
-            }
-            if (!budget.allows(cost)) {
-                throw new IllegalStateException("budget exhausted: " + budget.spent() + " of " + budget.limit()
-                        + " scored sets spent, " + cost + " more needed");
-            }
-            for (Map.Entry<EvaluationKey, RegionSet> e : byKey.entrySet()) {
-                ResultsStore.Stored st = found.get(e.getKey());
-                if (st == null) {
                     continue;
                 }
-                Source src = run.paid(e.getKey()) ? Source.REPLAYED : Source.STORED;
+                Source src = paid.contains(e.getKey()) ? Source.REPLAYED : Source.STORED;
                 if (src == Source.STORED) {
                     reusedKeys.add(e.getKey());
                     budget.charge(costPerSet);
@@ -201,11 +246,27 @@ public final class LesionScorer {
                 decodeChunk(part, result);
             }
         }
-        List<Scored> out = new ArrayList<>(sets.size());
-        for (RegionSet s : sets) {
+        List<Scored> out = new ArrayList<>(keep);
+        for (RegionSet s : sets.subList(0, keep)) {
             out.add(result.get(s));
         }
         return out;
+    }
+
+    /** The longest prefix of {@code sets} whose distinct unpaid sets fit the remaining budget. */
+    private int fittingPrefix(List<RegionSet> sets, Set<RegionSet> unpaid) {
+        double spent = 0;
+        Set<RegionSet> counted = new HashSet<>();
+        for (int i = 0; i < sets.size(); i++) {
+            RegionSet s = sets.get(i);
+            if (unpaid.contains(s) && counted.add(s)) {
+                if (!budget.allows(spent + costPerSet)) {
+                    return i;
+                }
+                spent += costPerSet;
+            }
+        }
+        return sets.size();
     }
 
     private Scored replay(Scored m) {

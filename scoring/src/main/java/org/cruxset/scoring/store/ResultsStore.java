@@ -249,17 +249,13 @@ public final class ResultsStore implements AutoCloseable {
     }
 
     private void loadPaid(Connection c, Run run) throws SQLException {
-        try (PreparedStatement ps = c.prepareStatement("SELECT e.model_hash, e.data_hash, e.preprocessing,"
-                + " e.lesion_mode, e.mode_seed, e.set_hex, e.universe, re.cost FROM run_evaluations re"
-                + " JOIN evaluations e ON e.id = re.evaluation_id WHERE re.run_id = ? ORDER BY re.position")) {
+        try (PreparedStatement ps = c.prepareStatement(
+                "SELECT count(*), total(cost) FROM (SELECT cost FROM run_evaluations WHERE run_id = ? ORDER BY position)")) {
             ps.setLong(1, run.id);
             try (ResultSet r = ps.executeQuery()) {
-                while (r.next()) {
-                    EvaluationKey key = new EvaluationKey(r.getString(1), r.getString(2), r.getString(3),
-                            parseMode(r.getString(4)), r.getLong(5), EvaluationKey.parseSetHex(r.getString(6),
-                            r.getInt(7)));
-                    run.add(key, r.getDouble(8));
-                }
+                r.next();
+                run.count = r.getInt(1);
+                run.spent = r.getDouble(2);
             }
         }
     }
@@ -526,6 +522,52 @@ public final class ResultsStore implements AutoCloseable {
         return new PartSplit(seed, fraction, search, confirm, searchSubjects, confirmSubjects);
     }
 
+    /**
+     * The keys among {@code keys} that {@code run} has already paid for, found with batched queries (the store, not
+     * memory, knows what a run paid, so a run's memory does not grow with the sets it scores).
+     */
+    public Set<EvaluationKey> paidAmong(Run run, Collection<EvaluationKey> keys) {
+        return paidPositions(run, keys).keySet();
+    }
+
+    /** The keys among {@code keys} that {@code run} has paid for, each with its {@code position} in the run. */
+    public Map<EvaluationKey, Integer> paidPositions(Run run, Collection<EvaluationKey> keys) {
+        Objects.requireNonNull(run, "run");
+        Map<EvaluationKey, Integer> out = new HashMap<>();
+        if (keys.isEmpty()) {
+            return out;
+        }
+        synchronized (lock) {
+            requireOpen();
+            try {
+                forEachChunk(keys, (group, chunk) -> {
+                    Map<String, EvaluationKey> byHex = new HashMap<>();
+                    for (EvaluationKey k : chunk) {
+                        byHex.put(k.setHex(), k);
+                    }
+                    String sql = "SELECT e.set_hex, re.position FROM evaluations e JOIN run_evaluations re ON re.evaluation_id = e.id"
+                            + " AND re.run_id = ? WHERE e.model_hash = ? AND e.data_hash = ? AND e.preprocessing = ?"
+                            + " AND e.lesion_mode = ? AND e.mode_seed = ? AND e.set_hex IN (" + placeholders(chunk.size()) + ")";
+                    try (PreparedStatement ps = connection.prepareStatement(sql)) {
+                        ps.setLong(1, run.id);
+                        int i = bindGroup(ps, group, 1);
+                        for (EvaluationKey k : chunk) {
+                            ps.setString(++i, k.setHex());
+                        }
+                        try (ResultSet r = ps.executeQuery()) {
+                            while (r.next()) {
+                                out.put(byHex.get(r.getString(1)), r.getInt(2));
+                            }
+                        }
+                    }
+                });
+            } catch (SQLException e) {
+                throw new StoreException(file, "cannot look up what run " + run.id + " paid: " + e.getMessage(), e);
+            }
+        }
+        return out;
+    }
+
     /** The stored evaluations among {@code keys} (absent keys are left out), found with batched queries. */
     public Map<EvaluationKey, Stored> lookup(Collection<EvaluationKey> keys) {
         Map<EvaluationKey, Stored> out = new HashMap<>();
@@ -636,14 +678,14 @@ public final class ResultsStore implements AutoCloseable {
                 }
                 return charged;
             }, charged -> {
-                for (EvaluationKey k : charged) {
-                    run.add(k, costEach);
+                for (int i = 0; i < charged.size(); i++) {
+                    run.add(costEach);
                 }
             });
         }
     }
 
-    private Map<EvaluationKey, Long> ids(Connection c, Collection<EvaluationKey> keys) throws SQLException {
+    Map<EvaluationKey, Long> ids(Connection c, Collection<EvaluationKey> keys) throws SQLException {
         Map<EvaluationKey, Long> ids = new HashMap<>();
         forEachChunk(keys, (group, chunk) -> {
             Map<String, EvaluationKey> byHex = new HashMap<>();
@@ -901,7 +943,7 @@ public final class ResultsStore implements AutoCloseable {
                 + k.preprocessing() + ", " + k.mode().label() + " seed " + k.modeSeed() + ")";
     }
 
-    private static String now() {
+    static String now() {
         return Instant.now().toString();
     }
 
@@ -936,12 +978,17 @@ public final class ResultsStore implements AutoCloseable {
     }
 
     private static int bindGroup(PreparedStatement ps, EvaluationKey g) throws SQLException {
-        ps.setString(1, g.modelHash());
-        ps.setString(2, g.dataHash());
-        ps.setString(3, g.preprocessing());
-        ps.setString(4, g.mode().label());
-        ps.setLong(5, g.modeSeed());
-        return 5;
+        return bindGroup(ps, g, 0);
+    }
+
+    /** Binds the group's five key columns after {@code before} parameters; returns the last index bound. */
+    private static int bindGroup(PreparedStatement ps, EvaluationKey g, int before) throws SQLException {
+        ps.setString(before + 1, g.modelHash());
+        ps.setString(before + 2, g.dataHash());
+        ps.setString(before + 3, g.preprocessing());
+        ps.setString(before + 4, g.mode().label());
+        ps.setLong(before + 5, g.modeSeed());
+        return before + 5;
     }
 
     private static String placeholders(int n) {
@@ -950,7 +997,7 @@ public final class ResultsStore implements AutoCloseable {
 
     // ---- transactions ----
 
-    private interface TxBody<T> {
+    interface TxBody<T> {
         T run(Connection c) throws SQLException;
     }
 
@@ -958,9 +1005,11 @@ public final class ResultsStore implements AutoCloseable {
         void accept(T value);
     }
 
-    private <T> T inTransaction(String what, TxBody<T> body) {
-        return inTransaction(what, body, x -> {
-        });
+    <T> T inTransaction(String what, TxBody<T> body) {
+        synchronized (lock) {
+            return inTransaction(what, body, x -> {
+            });
+        }
     }
 
     /** Runs {@code body} in one {@code BEGIN IMMEDIATE} transaction, then {@code after} once it has committed. */
@@ -1071,7 +1120,7 @@ public final class ResultsStore implements AutoCloseable {
         private final String runKey;
         private final boolean resumed;
         private boolean finished;
-        private final Set<EvaluationKey> paid = new HashSet<>();
+        private int count;
         private double spent;
 
         private Run(long id, String runKey, boolean resumed, boolean finished) {
@@ -1085,8 +1134,8 @@ public final class ResultsStore implements AutoCloseable {
             return ResultsStore.this;
         }
 
-        private void add(EvaluationKey key, double cost) {
-            paid.add(key);
+        private void add(double cost) {
+            count++;
             spent += cost;
         }
 
@@ -1119,17 +1168,15 @@ public final class ResultsStore implements AutoCloseable {
             }
         }
 
-        /** Whether this run has already paid for {@code key}. */
+        /** Whether this run has already paid for {@code key} (one query; see {@link #paidAmong} for many). */
         public boolean paid(EvaluationKey key) {
-            synchronized (lock) {
-                return paid.contains(key);
-            }
+            return paidAmong(this, List.of(key)).contains(key);
         }
 
         /** The number of evaluations this run has paid for. */
         public int count() {
             synchronized (lock) {
-                return paid.size();
+                return count;
             }
         }
 

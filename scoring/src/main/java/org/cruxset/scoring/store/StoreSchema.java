@@ -119,15 +119,80 @@ final class StoreSchema {
             ) WITHOUT ROWID""",
             "ALTER TABLE runs ADD COLUMN split_id INTEGER REFERENCES part_splits (id)");
 
+    /**
+     * Version 3: searches (one row per search run, with its budget, time and where it stopped), their anytime traces,
+     * fronts, reported sets, and certificates (irreducibility: every one-region-smaller subset scored; exhaustive: no
+     * critical set up to a size within a pool).
+     */
+    private static final List<String> V3 = List.of(
+            """
+            CREATE TABLE searches (
+              run_id             INTEGER PRIMARY KEY REFERENCES runs (id),
+              strategy           TEXT    NOT NULL,
+              settings           TEXT    NOT NULL,
+              criterion          TEXT    NOT NULL,
+              budget             REAL,
+              time_limit_seconds REAL,
+              deadline           TEXT,
+              elapsed_seconds    REAL    NOT NULL,
+              status             TEXT    NOT NULL CHECK (status IN ('running', 'finished', 'budget', 'time')),
+              best_size          INTEGER
+            )""",
+            """
+            CREATE TABLE search_trace (
+              run_id          INTEGER NOT NULL REFERENCES runs (id),
+              position        INTEGER NOT NULL,
+              sets_charged    REAL    NOT NULL,
+              elapsed_seconds REAL    NOT NULL,
+              evaluation_id   INTEGER NOT NULL REFERENCES evaluations (id),
+              set_size        INTEGER NOT NULL,
+              critical        INTEGER NOT NULL CHECK (critical IN (0, 1)),
+              PRIMARY KEY (run_id, position)
+            ) WITHOUT ROWID""",
+            """
+            CREATE TABLE search_front (
+              run_id        INTEGER NOT NULL REFERENCES runs (id),
+              set_size      INTEGER NOT NULL,
+              evaluation_id INTEGER NOT NULL REFERENCES evaluations (id),
+              critical      INTEGER NOT NULL CHECK (critical IN (0, 1)),
+              PRIMARY KEY (run_id, set_size)
+            ) WITHOUT ROWID""",
+            """
+            CREATE TABLE certificates (
+              id            INTEGER PRIMARY KEY,
+              run_id        INTEGER NOT NULL REFERENCES runs (id),
+              kind          TEXT    NOT NULL CHECK (kind IN ('irreducible', 'exhaustive')),
+              evaluation_id INTEGER REFERENCES evaluations (id),
+              pool_hex      TEXT,
+              max_size      INTEGER,
+              holds         INTEGER NOT NULL CHECK (holds IN (0, 1))
+            )""",
+            """
+            CREATE TABLE certificate_subsets (
+              certificate_id INTEGER NOT NULL REFERENCES certificates (id),
+              evaluation_id  INTEGER NOT NULL REFERENCES evaluations (id),
+              PRIMARY KEY (certificate_id, evaluation_id)
+            ) WITHOUT ROWID""",
+            """
+            CREATE TABLE search_results (
+              run_id                INTEGER NOT NULL REFERENCES runs (id),
+              rank                  INTEGER NOT NULL,
+              evaluation_id         INTEGER NOT NULL REFERENCES evaluations (id),
+              confirm_evaluation_id INTEGER REFERENCES evaluations (id),
+              certificate_id        INTEGER REFERENCES certificates (id),
+              PRIMARY KEY (run_id, rank)
+            ) WITHOUT ROWID""");
+
     /** Step v − 1 brings a store to version v. */
-    static final List<List<String>> STEPS = List.of(V1, V2);
+    static final List<List<String>> STEPS = List.of(V1, V2, V3);
 
     /** The version this code writes and reads. */
     static final int VERSION = STEPS.size();
 
     /** The tables of the current version, for messages about files that are not stores. */
     static final String TABLES = "schema_version, runs, datasets, dataset_samples, evaluations, run_evaluations, "
-            + "part_splits, part_subjects";
+            + "part_splits, part_subjects, searches, search_trace, search_front, certificates, certificate_subsets, "
+            + "search_results";
 
     private StoreSchema() {
     }

@@ -38,7 +38,17 @@ import org.cruxset.scoring.lesion.RegionSet;
 public final class TsvExport {
     /** The files written, in writing order. */
     public static final List<String> FILES = List.of("runs.tsv", "evaluations.tsv", "run_evaluations.tsv",
-            "outcomes.tsv", "datasets.tsv", "part_splits.tsv", "part_subjects.tsv");
+            "outcomes.tsv", "datasets.tsv", "part_splits.tsv", "part_subjects.tsv", "searches.tsv", "search_trace.tsv",
+            "search_front.tsv", "search_results.tsv", "certificates.tsv", "certificate_subsets.tsv");
+
+    /** The search tables of schema version 3, each exported whole, ordered by these columns. */
+    private static final List<String[]> SEARCH_TABLES = List.of(
+            new String[] {"searches", "run_id"},
+            new String[] {"search_trace", "run_id, position"},
+            new String[] {"search_front", "run_id, set_size"},
+            new String[] {"search_results", "run_id, rank"},
+            new String[] {"certificates", "id"},
+            new String[] {"certificate_subsets", "certificate_id, evaluation_id"});
 
     private TsvExport() {
     }
@@ -62,6 +72,9 @@ public final class TsvExport {
                 writeOutcomes(c, file, datasets, outDir.resolve("outcomes.tsv"));
                 writeDatasets(datasets, outDir.resolve("datasets.tsv"));
                 writeSplits(c, version, outDir.resolve("part_splits.tsv"), outDir.resolve("part_subjects.tsv"));
+                for (String[] t : SEARCH_TABLES) {
+                    writeWhole(c, version >= 3, t[0], t[1], outDir.resolve(t[0] + ".tsv"));
+                }
             } finally {
                 s.execute("ROLLBACK");
             }
@@ -117,6 +130,46 @@ public final class TsvExport {
                         .integer(r.getLong(13)).real(ResultsStore.getReal(r, 14)).text(r.getString(15))
                         .text(r.getString(16)).text(r.getString(17)).text(r.getString(18)).text(r.getString(19))
                         .text(r.getString(20)).end();
+            }
+            t.commit();
+        }
+    }
+
+    /** Writes every column of {@code table} (header only when the store's version lacks the table). */
+    private static void writeWhole(Connection c, boolean present, String table, String orderBy, Path out)
+            throws SQLException {
+        List<String> columns = new ArrayList<>();
+        List<String> types = new ArrayList<>();
+        String ddl = null;
+        for (String statement : ResultsStore.SCHEMA) {
+            if (statement.startsWith("CREATE TABLE " + table + " (")) {
+                ddl = statement;
+            }
+        }
+        for (String line : ddl.split("\n")) {
+            String t = line.trim();
+            String[] w = t.split("\\s+");
+            if (w.length >= 2 && !t.startsWith("CREATE") && !t.startsWith("PRIMARY") && !t.startsWith("UNIQUE")
+                    && !t.startsWith(")")) {
+                columns.add(w[0]);
+                types.add(w[1].replace(",", ""));
+            }
+        }
+        try (Table t = new Table(out, columns.toArray(String[]::new))) {
+            if (present) {
+                try (Statement s = c.createStatement();
+                     ResultSet r = s.executeQuery("SELECT " + String.join(", ", columns) + " FROM " + table
+                             + " ORDER BY " + orderBy)) {
+                    while (r.next()) {
+                        for (int i = 0; i < columns.size(); i++) {
+                            switch (types.get(i)) {
+                                case "REAL" -> t.real(ResultsStore.getReal(r, i + 1));
+                                default -> t.text(r.getString(i + 1));
+                            }
+                        }
+                        t.end();
+                    }
+                }
             }
             t.commit();
         }
