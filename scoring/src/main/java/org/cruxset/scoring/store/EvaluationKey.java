@@ -25,10 +25,16 @@ public record EvaluationKey(String modelHash, String dataHash, String preprocess
 
     /** The set as a lowercase hex string of its bit words, most significant word first (a stable text key). */
     public String setHex() {
+        return setHex(set);
+    }
+
+    /** A set as lowercase hex of its bit words, most significant word first (as {@link #setHex()}). */
+    public static String setHex(RegionSet set) {
         long[] w = set.words();
         StringBuilder sb = new StringBuilder(w.length * 16);
         for (int i = w.length - 1; i >= 0; i--) {
-            sb.append(String.format("%016x", w[i]));
+            String h = Long.toHexString(w[i]);
+            sb.append("0000000000000000", h.length(), 16).append(h);
         }
         return sb.toString();
     }

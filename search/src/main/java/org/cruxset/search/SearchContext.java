@@ -1,0 +1,245 @@
+package org.cruxset.search;
+
+import java.time.Instant;
+import java.util.ArrayList;
+import java.util.HashMap;
+import java.util.List;
+import java.util.Map;
+import java.util.Objects;
+import java.util.SplittableRandom;
+import org.cruxset.scoring.eval.CollapseCriterion;
+import org.cruxset.scoring.eval.LesionScorer;
+import org.cruxset.scoring.eval.ScoringSession;
+import org.cruxset.scoring.eval.SetScore;
+import org.cruxset.scoring.lesion.RegionSet;
+import org.cruxset.scoring.store.EvaluationKey;
+import org.cruxset.scoring.store.SearchRecords;
+
+/**
+ * What a strategy sees: the search part's scorer behind a budget and a clock, the collapse criterion, the intact
+ * score, the search's seed, and the {@link Front} of what was found. Every set goes through {@link #score}, which
+ * scores as much of a batch as the budget allows (the last batch is truncated to meet it exactly), records front
+ * improvements in the store's anytime trace, and throws {@link StopSearch} when the budget or time is spent. Not
+ * thread-safe.
+ */
+public final class SearchContext {
+    /** Told after every scored batch. */
+    public interface Listener {
+        void scored(SearchContext ctx);
+    }
+
+    private final ScoringSession session;
+    private final LesionScorer scorer;
+    private final CollapseCriterion criterion;
+    private final SetScore intact;
+    private final long seed;
+    private final Front front;
+    private final SearchRecords records;
+    private final long startNanos = System.nanoTime();
+    private final double elapsedBefore;
+    private final double timeLimitSeconds;
+    private final Instant deadline;
+    private final Listener listener;
+    private final Map<RegionSet, Long> certified = new HashMap<>();
+    private final List<SearchRecords.TraceEntry> pendingTrace = new ArrayList<>();
+    private double charged;
+    private int tracePosition;
+    private long lastSaveNanos = System.nanoTime();
+    private int batches;
+
+    /**
+     * A context over {@code session}'s search part. {@code records} (nullable: no store) keep the trace;
+     * {@code elapsedBefore} is search time spent in earlier sessions of the same run; {@code timeLimitSeconds}
+     * (infinite: none) bounds the total search time; {@code deadline} (nullable) is a wall-clock end.
+     */
+    public SearchContext(ScoringSession session, long seed, SearchRecords records, double elapsedBefore,
+                         double timeLimitSeconds, Instant deadline, Listener listener) {
+        this.session = Objects.requireNonNull(session, "session");
+        this.scorer = session.scorer();
+        this.criterion = session.settings().criterion();
+        this.intact = session.intact().score();
+        this.seed = seed;
+        this.front = new Front(scorer.inputs().batch().regions());
+        this.records = records;
+        this.elapsedBefore = elapsedBefore;
+        this.timeLimitSeconds = timeLimitSeconds;
+        this.deadline = deadline;
+        this.listener = listener == null ? c -> { } : listener;
+        this.charged = 1;
+        front.offer(session.intact().set(), intact, false);
+    }
+
+    /** Number of regions (model inputs) a set is drawn from. */
+    public int regions() {
+        return scorer.inputs().batch().regions();
+    }
+
+    /** The empty set over the model's inputs. */
+    public RegionSet empty() {
+        return RegionSet.empty(regions());
+    }
+
+    /** The score of the intact decoder on the search part. */
+    public SetScore intact() {
+        return intact;
+    }
+
+    /** Whether a score on the search part is critical. */
+    public boolean critical(SetScore score) {
+        return criterion.critical(score, intact);
+    }
+
+    /** The session (for names, parts and the store). */
+    public ScoringSession session() {
+        return session;
+    }
+
+    /** What was found so far. */
+    public Front front() {
+        return front;
+    }
+
+    /** A generator for one purpose of the strategy, split from the search seed by a fixed label. */
+    public SplittableRandom random(String purpose) {
+        return new SplittableRandom(seed * 0x9E3779B97F4A7C15L + purpose.hashCode());
+    }
+
+    /** Sets charged so far in this run, the intact set included (the same after a resume as without one). */
+    public double charged() {
+        return charged;
+    }
+
+    /** The budget of scored sets, or infinity. */
+    public double budgetLimit() {
+        return scorer.budget().limit();
+    }
+
+    /** Search time over all sessions of this run, in seconds. */
+    public double elapsedSeconds() {
+        return elapsedBefore + (System.nanoTime() - startNanos) / 1e9;
+    }
+
+    /** Batches scored in this session. */
+    public int batches() {
+        return batches;
+    }
+
+    /** The underlying scorer (for counts of decoded, stored and replayed sets). */
+    public LesionScorer scorer() {
+        return scorer;
+    }
+
+    /**
+     * Scores {@code sets} on the search part, in order. Throws {@link StopSearch} before scoring when the time is
+     * spent, and after scoring the prefix that fits when the budget is spent.
+     */
+    public List<LesionScorer.Scored> score(List<RegionSet> sets) {
+        if (timeUp()) {
+            throw new StopSearch(StopSearch.Reason.TIME, "the time limit was reached after "
+                    + Math.round(elapsedSeconds()) + " s of search");
+        }
+        List<LesionScorer.Scored> scored = scorer.scoreWithinBudget(sets);
+        batches++;
+        account(scored);
+        listener.scored(this);
+        if (scored.size() < sets.size()) {
+            throw new StopSearch(StopSearch.Reason.BUDGET, "the budget of " + (long) scorer.budget().limit()
+                    + " scored sets is spent");
+        }
+        return scored;
+    }
+
+    /** Scores one set (see {@link #score(List)}). */
+    public LesionScorer.Scored score(RegionSet set) {
+        return score(List.of(set)).get(0);
+    }
+
+    private boolean timeUp() {
+        return elapsedSeconds() >= timeLimitSeconds || (deadline != null && !Instant.now().isBefore(deadline));
+    }
+
+    private void account(List<LesionScorer.Scored> scored) {
+        if (records != null && !scored.isEmpty()) {
+            List<EvaluationKey> keys = new ArrayList<>(scored.size());
+            for (LesionScorer.Scored s : scored) {
+                keys.add(scorer.key(s.set()));
+            }
+            for (int p : records.paidPositions(keys).values()) {
+                charged = Math.max(charged, p + 1);
+            }
+        } else {
+            charged = Math.max(charged, scorer.budget().spent());
+        }
+        Map<Integer, LesionScorer.Scored> improved = new HashMap<>();
+        for (LesionScorer.Scored s : scored) {
+            boolean critical = s.set().size() > 0 && critical(s.score());
+            if (front.offer(s.set(), s.score(), critical)) {
+                improved.put(s.set().size(), s);
+            }
+        }
+        List<Integer> sizes = new ArrayList<>(improved.keySet());
+        sizes.sort(null);
+        for (int k : sizes) {
+            LesionScorer.Scored s = improved.get(k);
+            Front.Entry e = front.at(k);
+            if (e.set().equals(s.set())) {
+                pendingTrace.add(new SearchRecords.TraceEntry(tracePosition++, charged, elapsedSeconds(),
+                        scorer.key(s.set()), k, e.critical()));
+            }
+        }
+        save(false);
+    }
+
+    /** Writes the pending trace and the time spent (at most once a second unless {@code force}). */
+    void save(boolean force) {
+        if (records == null) {
+            pendingTrace.clear();
+            return;
+        }
+        long now = System.nanoTime();
+        if (force || now - lastSaveNanos >= 1_000_000_000L) {
+            records.progress(List.copyOf(pendingTrace), elapsedSeconds());
+            pendingTrace.clear();
+            lastSaveNanos = now;
+        }
+    }
+
+    /**
+     * Records that {@code set} is critical and irreducible: none of {@code subsets} (every one-region-smaller subset,
+     * already scored) is critical. Returns the certificate's id (0 without a store).
+     */
+    public long certifyIrreducible(RegionSet set, List<RegionSet> subsets) {
+        long id = 0;
+        if (records != null) {
+            List<EvaluationKey> keys = new ArrayList<>();
+            for (RegionSet s : subsets) {
+                keys.add(scorer.key(s));
+            }
+            save(true);
+            id = records.certificate(new SearchRecords.Certificate("irreducible", scorer.key(set), null, null, true,
+                    keys));
+        }
+        certified.put(set, id);
+        return id;
+    }
+
+    /** Records that no set of size at most {@code maxSize} within {@code pool} is critical; returns its id. */
+    public long certifyExhaustive(RegionSet pool, int maxSize) {
+        if (records == null) {
+            return 0;
+        }
+        save(true);
+        return records.certificate(new SearchRecords.Certificate("exhaustive", null,
+                EvaluationKey.setHex(pool), maxSize, true, List.of()));
+    }
+
+    /** Whether {@code set} carries an irreducibility certificate from this run. */
+    public boolean isCertified(RegionSet set) {
+        return certified.containsKey(set);
+    }
+
+    /** The id of {@code set}'s irreducibility certificate, or null. */
+    public Long certificateOf(RegionSet set) {
+        return certified.get(set);
+    }
+}

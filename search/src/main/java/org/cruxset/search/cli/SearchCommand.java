@@ -1,0 +1,350 @@
+package org.cruxset.search.cli;
+
+import java.io.PrintWriter;
+import java.nio.file.Path;
+import java.time.Instant;
+import java.time.LocalDateTime;
+import java.time.LocalTime;
+import java.time.ZoneId;
+import java.time.format.DateTimeParseException;
+import java.util.ArrayList;
+import java.util.List;
+import java.util.Locale;
+import java.util.concurrent.Callable;
+import org.cruxset.scoring.cohort.Atlas;
+import org.cruxset.scoring.cohort.Cohort;
+import org.cruxset.scoring.decoder.Decoder;
+import org.cruxset.scoring.eval.ScoringSession;
+import org.cruxset.scoring.eval.SetScore;
+import org.cruxset.scoring.lesion.LesionSpec;
+import org.cruxset.scoring.lesion.RegionSet;
+import org.cruxset.search.Front;
+import org.cruxset.search.SearchContext;
+import org.cruxset.search.SearchRun;
+import org.cruxset.search.Strategy;
+import org.cruxset.search.rank.CriticalPrefix;
+import org.cruxset.search.rank.Ranking;
+import org.cruxset.search.rank.RankingFile;
+import org.cruxset.search.strategy.ExhaustiveStrategy;
+import org.cruxset.search.strategy.GrowStrategy;
+import org.cruxset.search.strategy.PruneStrategy;
+import org.cruxset.search.strategy.RandomStrategy;
+import org.cruxset.search.strategy.RankedStrategy;
+import picocli.CommandLine;
+import picocli.CommandLine.Command;
+import picocli.CommandLine.Mixin;
+import picocli.CommandLine.Model.CommandSpec;
+import picocli.CommandLine.Option;
+import picocli.CommandLine.Spec;
+
+/** {@code cruxset search}: searches for the smallest critical lesion sets on a budget. */
+@Command(name = "search", mixinStandardHelpOptions = true,
+        description = {"Search for the smallest sets of regions whose lesion is critical, on a budget of scored sets "
+                + "(one scored set = one set scored on all samples of the search part) and/or of time.",
+            "",
+            "Strategies: grow (greedy addition), ranked (smallest critical prefix of a ranking), prune (backward "
+                + "elimination from a set), exhaustive (every subset of a pool by increasing size), random (random sets "
+                + "of every size: the floor). Unless --no-prune, the best critical sets found are pruned so each carries "
+                + "an irreducibility certificate. Every reported set is re-scored on the confirmation part (not "
+                + "charged). Kill the run at any time: the same command resumes it and ends with the same result, each "
+                + "set paid once."})
+public final class SearchCommand implements Callable<Integer> {
+    @Spec
+    CommandSpec spec;
+
+    @Mixin
+    ModelOptions model;
+
+    @Mixin
+    CohortOptions cohort;
+
+    @Mixin
+    ScoringOptions scoring;
+
+    @Option(names = "--strategy", defaultValue = "grow", paramLabel = "NAME",
+            description = "grow, ranked, prune, exhaustive or random. Default: ${DEFAULT-VALUE}.")
+    String strategy;
+
+    @Option(names = "--budget", paramLabel = "N",
+            description = "Scored sets of the search part to spend at most (the intact set counts as one; the last batch "
+                    + "is truncated to meet it exactly).")
+    Long budget;
+
+    @Option(names = "--hours", paramLabel = "H", description = "Search time to spend at most, over all resumes of the run.")
+    Double hours;
+
+    @Option(names = "--until", paramLabel = "HH:MM", description = "Stop at the next such local time (kept when resumed).")
+    String until;
+
+    @Option(names = "--seed", defaultValue = "1", paramLabel = "N", description = "Seed of the strategy. Default: ${DEFAULT-VALUE}.")
+    long seed;
+
+    @Option(names = "--ranking", paramLabel = "FILE",
+            description = "A ranking (TSV, see README) for ranked, or whose top units form the exhaustive pool; default: "
+                    + "single lesions, computed on the search part.")
+    Path ranking;
+
+    @Option(names = "--pool", defaultValue = "top:12", paramLabel = "POOL",
+            description = "exhaustive: top:M (the M best-ranked regions), network:NAME, or all. Default: ${DEFAULT-VALUE}.")
+    String pool;
+
+    @Option(names = "--from", paramLabel = "SET", description = "prune: the critical set to start from (regions, "
+            + "network:NAME or indices, comma-separated); default: all regions.")
+    String from;
+
+    @Option(names = "--signal", defaultValue = "probability", paramLabel = "S",
+            description = "grow: what each step lowers most, probability (mean true-class probability, then accuracy) or "
+                    + "accuracy (then probability). Default: ${DEFAULT-VALUE}.")
+    String signal;
+
+    @Option(names = "--lazy", description = "grow: re-score only the candidate with the largest stale gain (a heuristic: "
+            + "exact only under diminishing returns, which synergy breaks).")
+    boolean lazy;
+
+    @Option(names = "--no-prune", description = "Do not prune the best critical sets found (they then carry no "
+            + "irreducibility certificate).")
+    boolean noPrune;
+
+    @Option(names = "--certify", defaultValue = "" + PruneStrategy.DEFAULT_CERTIFY, paramLabel = "N",
+            description = "How many of the best critical sets to prune and certify. Default: ${DEFAULT-VALUE}.")
+    int certify;
+
+    @Override
+    public Integer call() {
+        PrintWriter pw = spec.commandLine().getOut();
+        if (budget != null && budget < 1) {
+            throw new CommandLine.ParameterException(spec.commandLine(), "--budget must be at least 1, found " + budget);
+        }
+        if (hours != null && !(hours > 0)) {
+            throw new CommandLine.ParameterException(spec.commandLine(), "--hours must be positive, found " + hours);
+        }
+        Instant deadline = until == null ? null : nextTime(until);
+        Cohort c = cohort.read();
+        String command = String.join(" ", spec.commandLine().getParseResult().originalArgs());
+        ScoringSession.Settings settings = scoring.settings("search", command, seed,
+                budget == null ? Double.POSITIVE_INFINITY : budget, model.threads());
+        try (Decoder decoder = model.open();
+             ScoringSession session = ScoringSession.open(decoder, c, settings)) {
+            Strategy s = strategy(session);
+            pw.println(Reports.CAUTION);
+            pw.printf("Held-out data: %s.%n", session.heldOut().description());
+            Reports.parts(pw, session);
+            pw.printf("Critical means %s. Lesion mode: %s.%n", session.settings().criterion().describe(),
+                    session.settings().mode().label());
+            pw.printf("Search: %s (%s), seed %d; budget %s%s%s.%s%n", s.name(), s.settings(), seed,
+                    budget == null ? "none" : budget + " scored sets of the search part",
+                    hours == null ? "" : ", at most " + hours + " h", deadline == null ? "" : ", until " + deadline,
+                    session.run() != null && session.run().resumed() ? " Resuming an earlier run of this command." : "");
+            SearchProgress progress = new SearchProgress(spec.commandLine().getErr(), budget);
+            SearchRun.Result r = SearchRun.run(session, s, new SearchRun.Settings(
+                    hours == null ? Double.POSITIVE_INFINITY : hours * 3600, deadline, seed, !noPrune, certify),
+                    progress);
+            progress.done();
+            print(pw, session, s, r);
+        }
+        return 0;
+    }
+
+    private Strategy strategy(ScoringSession session) {
+        Atlas atlas = session.cohort().atlas();
+        Ranking given = ranking == null ? null : RankingFile.read(ranking, atlas);
+        return switch (strategy.toLowerCase(Locale.ROOT)) {
+            case "grow" -> new GrowStrategy(signal(), lazy);
+            case "ranked" -> new RankedStrategy(given);
+            case "prune" -> new PruneStrategy(from == null ? null : session.toInputs(LesionSpec.parse(from, atlas)));
+            case "exhaustive" -> exhaustive(session, given);
+            case "random" -> new RandomStrategy();
+            default -> throw new CommandLine.ParameterException(spec.commandLine(), "--strategy must be grow, ranked, "
+                    + "prune, exhaustive or random, found '" + strategy + "'");
+        };
+    }
+
+    private boolean signal() {
+        return switch (signal) {
+            case "probability" -> false;
+            case "accuracy" -> true;
+            default -> throw new CommandLine.ParameterException(spec.commandLine(),
+                    "--signal must be probability or accuracy, found '" + signal + "'");
+        };
+    }
+
+    private Strategy exhaustive(ScoringSession session, Ranking given) {
+        Atlas atlas = session.cohort().atlas();
+        if (pool.equals("all")) {
+            return new ExhaustiveStrategy(RegionSet.all(session.inputs().batch().regions()), "all regions");
+        }
+        if (pool.startsWith(LesionSpec.NETWORK_PREFIX)) {
+            return new ExhaustiveStrategy(session.toInputs(LesionSpec.parse(pool, atlas)), pool);
+        }
+        if (pool.startsWith("top:")) {
+            int m;
+            try {
+                m = Integer.parseInt(pool.substring(4));
+            } catch (NumberFormatException e) {
+                throw new CommandLine.ParameterException(spec.commandLine(), "--pool top:M needs a whole number, found '"
+                        + pool + "'");
+            }
+            if (given == null) {
+                return new TopOfSingleLesions(m);
+            }
+            if (given.kind() != Ranking.Kind.REGIONS) {
+                throw new CommandLine.ParameterException(spec.commandLine(), "--pool top:M needs a ranking of regions");
+            }
+            List<RegionSet> prefixes = given.prefixes(atlas);
+            RegionSet top = prefixes.get(Math.min(m, prefixes.size()) - 1);
+            return new ExhaustiveStrategy(session.toInputs(top), "top " + m + " of " + ranking);
+        }
+        throw new CommandLine.ParameterException(spec.commandLine(), "--pool must be top:M, network:NAME or all, found '"
+                + pool + "'");
+    }
+
+    /** Exhaustive search over the top m regions of the single-lesion ranking, computed first on the search part. */
+    private static final class TopOfSingleLesions implements Strategy {
+        private final int m;
+
+        TopOfSingleLesions(int m) {
+            this.m = m;
+        }
+
+        @Override
+        public String name() {
+            return "exhaustive";
+        }
+
+        @Override
+        public String settings() {
+            return "pool=top " + m + " of the single-lesion ranking";
+        }
+
+        @Override
+        public void run(SearchContext ctx) {
+            Ranking r = org.cruxset.search.rank.SingleLesion.rank(ctx);
+            List<RegionSet> prefixes = r.prefixes(ctx.session().cohort().atlas());
+            RegionSet top = ctx.session().toInputs(prefixes.get(Math.min(m, prefixes.size()) - 1));
+            new ExhaustiveStrategy(top, "top " + m + " of the single-lesion ranking").run(ctx);
+        }
+    }
+
+    private static Instant nextTime(String text) {
+        LocalTime t;
+        try {
+            t = LocalTime.parse(text);
+        } catch (DateTimeParseException e) {
+            throw new IllegalArgumentException("--until must be a time of day HH:MM, found '" + text + "'");
+        }
+        LocalDateTime now = LocalDateTime.now();
+        LocalDateTime at = now.toLocalDate().atTime(t);
+        if (!at.isAfter(now)) {
+            at = at.plusDays(1);
+        }
+        return at.atZone(ZoneId.systemDefault()).toInstant();
+    }
+
+    private void print(PrintWriter pw, ScoringSession session, Strategy s, SearchRun.Result r) {
+        pw.println();
+        pw.printf("Stopped: %s (%s). Scored sets charged: %.0f%s; this session decoded %d, reused %d from the store, "
+                        + "replayed %d already paid; %.1f s of search.%n", r.status(), r.stopMessage(), r.charged(),
+                budget == null ? "" : " of " + budget, session.scorer().decodedCount(), session.scorer().storedCount(),
+                session.scorer().replayedCount(), r.elapsedSeconds());
+        if (s instanceof RankedStrategy ranked && ranked.prefix() != null) {
+            CriticalPrefix.Result p = ranked.prefix();
+            pw.printf("Ranking: smallest critical prefix %s of %d units (%d prefixes scored)%s.%n",
+                    p.length() < 0 ? "none" : Integer.toString(p.length()), ranked.ranking().size(), p.scored().size(),
+                    p.monotoneAsSeen() ? "; monotone where scored"
+                            : "; non-monotone where scored: " + String.join("; ", p.nonMonotone())
+                            + " (a shorter critical prefix cannot be ruled out)");
+        }
+        if (r.bestSize() < 0) {
+            pw.println("No critical set was found. Raise the budget, try another strategy, or check the criterion.");
+        } else {
+            pw.printf("Smallest critical sets found: size %d, %d distinct%s.%n", r.bestSize(), r.reported().size(),
+                    r.notKept() > 0 ? " (and " + r.notKept() + " more not kept)" : "");
+            List<String[]> rows = new ArrayList<>();
+            rows.add(new String[] {"#", "regions", "networks", "search accuracy (95% Wilson)", "search",
+                "confirmation accuracy (95% Wilson)", "confirmation", "certificate"});
+            int i = 1;
+            for (SearchRun.Reported x : r.reported()) {
+                rows.add(new String[] {Integer.toString(i++), names(session, x.set()), networks(session, x.set()),
+                    accuracy(x.search()), "CRITICAL", x.confirmation() == null ? "-" : accuracy(x.confirmation()),
+                    x.confirmationCritical() == null ? "-" : x.confirmationCritical() ? "CRITICAL" : "not confirmed",
+                    x.certificate() != null ? "irreducible" : "not computed"});
+            }
+            Table.print(pw, rows);
+            pw.printf("Core (in every set): %s; interchangeable: %s.%n", r.core().isEmpty() ? "none" : names(session, r.core()),
+                    r.interchangeable().isEmpty() ? "none" : names(session, r.interchangeable()));
+            if (session.confirmation().isEmpty()) {
+                pw.println("No confirmation part (--confirm 0): these scores were selected on the same samples and are "
+                        + "optimistic.");
+            }
+        }
+        pw.println();
+        pw.println("Front (best set found at each size):");
+        List<String[]> rows = new ArrayList<>();
+        rows.add(new String[] {"size", "accuracy", "p(true)", "critical", "set"});
+        for (Front.Entry e : r.front()) {
+            rows.add(new String[] {Integer.toString(e.size()), String.format("%.3f", e.score().accuracy()),
+                String.format("%.3f", e.score().meanTrueClassProbability()), e.critical() ? "yes" : "no",
+                e.size() <= 8 ? (e.size() == 0 ? "(intact)" : names(session, e.set())) : e.size() + " regions"});
+        }
+        Table.print(pw, rows);
+        pw.printf("%nResults: %s (cruxset export --out %s writes TSV views, including the anytime trace)%n",
+                scoring.out().resolve(ScoringSession.STORE_FILE), scoring.out());
+    }
+
+    static String names(ScoringSession session, RegionSet inputSet) {
+        Atlas atlas = session.cohort().atlas();
+        int[] regionOf = session.inputs().regionOfInput();
+        StringBuilder sb = new StringBuilder();
+        for (int p : inputSet.positions()) {
+            sb.append(sb.length() == 0 ? "" : ",").append(atlas.region(regionOf[p]).name());
+        }
+        return sb.toString();
+    }
+
+    private static String networks(ScoringSession session, RegionSet inputSet) {
+        Atlas atlas = session.cohort().atlas();
+        int[] regionOf = session.inputs().regionOfInput();
+        java.util.TreeMap<String, Integer> count = new java.util.TreeMap<>();
+        for (int p : inputSet.positions()) {
+            count.merge(atlas.region(regionOf[p]).network(), 1, Integer::sum);
+        }
+        StringBuilder sb = new StringBuilder();
+        count.forEach((k, v) -> sb.append(sb.length() == 0 ? "" : ",").append(k).append(v > 1 ? "×" + v : ""));
+        return sb.toString();
+    }
+
+    private static String accuracy(SetScore s) {
+        return String.format("%.3f (%.3f-%.3f), n = %d", s.accuracy(), s.wilsonLow(), s.wilsonHigh(), s.n());
+    }
+
+    /** The progress bar of a search: sets charged of the budget, store hits, best critical size so far. */
+    private static final class SearchProgress implements SearchContext.Listener {
+        private final ProgressBar bar;
+        private final Long budget;
+        private long last;
+
+        SearchProgress(PrintWriter err, Long budget) {
+            this.bar = new ProgressBar(err, "search");
+            this.budget = budget;
+        }
+
+        @Override
+        public void scored(SearchContext ctx) {
+            long now = System.nanoTime();
+            long every = System.console() != null ? 300_000_000L : 10_000_000_000L;
+            if (now - last < every) {
+                return;
+            }
+            last = now;
+            int done = (int) ctx.charged();
+            int total = budget == null ? done : (int) Math.min(Integer.MAX_VALUE, budget);
+            int best = ctx.front().bestCriticalSize();
+            bar.update(done, Math.max(total, 1), String.format("store hits %d, best critical size %s",
+                    ctx.scorer().storedCount() + ctx.scorer().replayedCount(), best < 0 ? "none yet" : best));
+        }
+
+        void done() {
+            bar.done();
+        }
+    }
+}
