@@ -43,6 +43,7 @@ public final class SearchContext {
     private final Map<RegionSet, Long> certified = new HashMap<>();
     private final List<SearchRecords.TraceEntry> pendingTrace = new ArrayList<>();
     private double charged;
+    private double chargedAtBest = Double.NaN;
     private int tracePosition;
     private long lastSaveNanos = System.nanoTime();
     private int batches;
@@ -109,6 +110,11 @@ public final class SearchContext {
         return charged;
     }
 
+    /** Sets charged when the best critical size was first reached (NaN when none was found). */
+    public double chargedAtBest() {
+        return chargedAtBest;
+    }
+
     /** The budget of scored sets, or infinity. */
     public double budgetLimit() {
         return scorer.budget().limit();
@@ -164,18 +170,22 @@ public final class SearchContext {
             for (LesionScorer.Scored s : scored) {
                 keys.add(scorer.key(s.set()));
             }
-            for (int p : records.paidPositions(keys).values()) {
-                charged = Math.max(charged, p + 1);
+            for (double spent : records.spentWhenPaid(keys).values()) {
+                charged = Math.max(charged, spent);
             }
         } else {
             charged = Math.max(charged, scorer.budget().spent());
         }
         Map<Integer, LesionScorer.Scored> improved = new HashMap<>();
+        int bestBefore = front.bestCriticalSize();
         for (LesionScorer.Scored s : scored) {
             boolean critical = s.set().size() > 0 && critical(s.score());
             if (front.offer(s.set(), s.score(), critical)) {
                 improved.put(s.set().size(), s);
             }
+        }
+        if (front.bestCriticalSize() != bestBefore) {
+            chargedAtBest = charged;
         }
         List<Integer> sizes = new ArrayList<>(improved.keySet());
         sizes.sort(null);

@@ -527,13 +527,16 @@ public final class ResultsStore implements AutoCloseable {
      * memory, knows what a run paid, so a run's memory does not grow with the sets it scores).
      */
     public Set<EvaluationKey> paidAmong(Run run, Collection<EvaluationKey> keys) {
-        return paidPositions(run, keys).keySet();
+        return spentWhenPaid(run, keys).keySet();
     }
 
-    /** The keys among {@code keys} that {@code run} has paid for, each with its {@code position} in the run. */
-    public Map<EvaluationKey, Integer> paidPositions(Run run, Collection<EvaluationKey> keys) {
+    /**
+     * The keys among {@code keys} that {@code run} has paid for, each with the run's budget spent once it paid for it
+     * ({@code spent_after}; for links made before schema version 3, their position + 1).
+     */
+    public Map<EvaluationKey, Double> spentWhenPaid(Run run, Collection<EvaluationKey> keys) {
         Objects.requireNonNull(run, "run");
-        Map<EvaluationKey, Integer> out = new HashMap<>();
+        Map<EvaluationKey, Double> out = new HashMap<>();
         if (keys.isEmpty()) {
             return out;
         }
@@ -545,7 +548,8 @@ public final class ResultsStore implements AutoCloseable {
                     for (EvaluationKey k : chunk) {
                         byHex.put(k.setHex(), k);
                     }
-                    String sql = "SELECT e.set_hex, re.position FROM evaluations e JOIN run_evaluations re ON re.evaluation_id = e.id"
+                    String sql = "SELECT e.set_hex, coalesce(re.spent_after, re.position + 1) FROM evaluations e"
+                            + " JOIN run_evaluations re ON re.evaluation_id = e.id"
                             + " AND re.run_id = ? WHERE e.model_hash = ? AND e.data_hash = ? AND e.preprocessing = ?"
                             + " AND e.lesion_mode = ? AND e.mode_seed = ? AND e.set_hex IN (" + placeholders(chunk.size()) + ")";
                     try (PreparedStatement ps = connection.prepareStatement(sql)) {
@@ -556,7 +560,7 @@ public final class ResultsStore implements AutoCloseable {
                         }
                         try (ResultSet r = ps.executeQuery()) {
                             while (r.next()) {
-                                out.put(byHex.get(r.getString(1)), r.getInt(2));
+                                out.put(byHex.get(r.getString(1)), r.getDouble(2));
                             }
                         }
                     }
@@ -656,9 +660,10 @@ public final class ResultsStore implements AutoCloseable {
                         position = r.getInt(1);
                     }
                 }
+                double spentSoFar = run.spent;
                 try (PreparedStatement link = c.prepareStatement("INSERT INTO run_evaluations (run_id, evaluation_id,"
-                        + " cost, reused, position) VALUES (?, ?, ?, ?, ?) ON CONFLICT (run_id, evaluation_id)"
-                        + " DO NOTHING")) {
+                        + " cost, reused, position, spent_after) VALUES (?, ?, ?, ?, ?, ?) ON CONFLICT (run_id,"
+                        + " evaluation_id) DO NOTHING")) {
                     for (Map.Entry<EvaluationKey, Boolean> e : links.entrySet()) {
                         Long id = ids.get(e.getKey());
                         if (id == null) {
@@ -670,8 +675,10 @@ public final class ResultsStore implements AutoCloseable {
                         link.setDouble(3, costEach);
                         link.setInt(4, e.getValue() ? 1 : 0);
                         link.setInt(5, position);
+                        link.setDouble(6, spentSoFar + costEach);
                         if (link.executeUpdate() == 1) {
                             position++;
+                            spentSoFar += costEach;
                             charged.add(e.getKey());
                         }
                     }

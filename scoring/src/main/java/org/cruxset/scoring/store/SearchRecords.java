@@ -22,6 +22,7 @@ import java.util.Objects;
  * the same trace writes nothing twice.
  */
 public final class SearchRecords {
+    // A certificate recorded again by a resumed run's replay is found, not duplicated.
     /** Statuses of a search: still running, finished by itself, or stopped by its budget or its time. */
     public static final List<String> STATUSES = List.of("running", "finished", "budget", "time");
 
@@ -153,6 +154,19 @@ public final class SearchRecords {
                 keys.add(cert.set());
             }
             Map<EvaluationKey, Long> ids = store.ids(c, new LinkedHashSet<>(keys));
+            try (PreparedStatement ps = c.prepareStatement("SELECT id FROM certificates WHERE run_id = ? AND kind = ?"
+                    + " AND evaluation_id IS ? AND pool_hex IS ? AND max_size IS ?")) {
+                ps.setLong(1, run.id());
+                ps.setString(2, cert.kind());
+                ps.setObject(3, cert.set() == null ? null : id(ids, cert.set()));
+                ps.setString(4, cert.poolHex());
+                ps.setObject(5, cert.maxSize());
+                try (ResultSet r = ps.executeQuery()) {
+                    if (r.next()) {
+                        return r.getLong(1);
+                    }
+                }
+            }
             long id;
             try (PreparedStatement ps = c.prepareStatement("INSERT INTO certificates (run_id, kind, evaluation_id,"
                     + " pool_hex, max_size, holds) VALUES (?, ?, ?, ?, ?, ?)", Statement.RETURN_GENERATED_KEYS)) {
@@ -268,9 +282,9 @@ public final class SearchRecords {
         return store.inTransaction("read the search of run " + run.id(), this::state);
     }
 
-    /** The positions at which {@code run} paid for {@code keys} (absent keys are left out). */
-    public Map<EvaluationKey, Integer> paidPositions(Collection<EvaluationKey> keys) {
-        return store.paidPositions(run, keys);
+    /** The run's budget spent once it paid for each of {@code keys} (keys it has not paid for are left out). */
+    public Map<EvaluationKey, Double> spentWhenPaid(Collection<EvaluationKey> keys) {
+        return store.spentWhenPaid(run, keys);
     }
 
     private long id(Map<EvaluationKey, Long> ids, EvaluationKey key) {

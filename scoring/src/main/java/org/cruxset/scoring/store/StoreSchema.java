@@ -173,6 +173,7 @@ final class StoreSchema {
               evaluation_id  INTEGER NOT NULL REFERENCES evaluations (id),
               PRIMARY KEY (certificate_id, evaluation_id)
             ) WITHOUT ROWID""",
+            "ALTER TABLE run_evaluations ADD COLUMN spent_after REAL",
             """
             CREATE TABLE search_results (
               run_id                INTEGER NOT NULL REFERENCES runs (id),

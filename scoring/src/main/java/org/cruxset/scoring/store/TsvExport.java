@@ -68,7 +68,7 @@ public final class TsvExport {
                 Map<String, Dataset> datasets = readDatasets(c);
                 writeRuns(c, version, outDir.resolve("runs.tsv"));
                 writeEvaluations(c, outDir.resolve("evaluations.tsv"));
-                writeRunEvaluations(c, outDir.resolve("run_evaluations.tsv"));
+                writeRunEvaluations(c, version, outDir.resolve("run_evaluations.tsv"));
                 writeOutcomes(c, file, datasets, outDir.resolve("outcomes.tsv"));
                 writeDatasets(datasets, outDir.resolve("datasets.tsv"));
                 writeSplits(c, version, outDir.resolve("part_splits.tsv"), outDir.resolve("part_subjects.tsv"));
@@ -242,14 +242,14 @@ public final class TsvExport {
         }
     }
 
-    private static void writeRunEvaluations(Connection c, Path out) throws SQLException {
+    private static void writeRunEvaluations(Connection c, int version, Path out) throws SQLException {
         try (Statement s = c.createStatement();
-             ResultSet r = s.executeQuery("SELECT run_id, position, evaluation_id, cost, reused FROM run_evaluations"
-                     + " ORDER BY run_id, position");
-             Table t = new Table(out, "run_id", "position", "evaluation_id", "cost", "reused")) {
+             ResultSet r = s.executeQuery("SELECT run_id, position, evaluation_id, cost, reused, "
+                     + (version >= 3 ? "spent_after" : "NULL") + " FROM run_evaluations ORDER BY run_id, position");
+             Table t = new Table(out, "run_id", "position", "evaluation_id", "cost", "reused", "spent_after")) {
             while (r.next()) {
                 t.integer(r.getLong(1)).integer(r.getLong(2)).integer(r.getLong(3)).real(r.getDouble(4))
-                        .integer(r.getLong(5)).end();
+                        .integer(r.getLong(5)).real(ResultsStore.getReal(r, 6)).end();
             }
             t.commit();
         }

@@ -84,8 +84,73 @@ public final class BenchCommand implements Callable<Integer> {
     @Mixin
     ThreadOptions threads;
 
+    @Option(names = "--suite", paramLabel = "NAME", defaultValue = "engine",
+            description = "engine (scored sets per second of both engines on the reference workload) or search (strategies "
+                    + "on planted lesion problems with a proven minimum and traps). Default: ${DEFAULT-VALUE}.")
+    String suite;
+
+    @Option(names = "--seeds", paramLabel = "N", defaultValue = "5",
+            description = "search suite: instances (seeds 1..N), each run in a fresh store. Default: ${DEFAULT-VALUE}.")
+    int seeds;
+
+    @Option(names = "--budgets", paramLabel = "N", split = ",", defaultValue = "6000",
+            description = "search suite: budgets in scored sets, comma-separated. Default: ${DEFAULT-VALUE}.")
+    List<Long> budgets;
+
+    @Option(names = "--strategies", paramLabel = "S", split = ",", defaultValue = "random,grow,grow+prune,ranked+prune",
+            description = "search suite: strategies, comma-separated. Default: ${DEFAULT-VALUE}.")
+    List<String> strategies;
+
     @Override
-    public Integer call() {
+    public Integer call() throws java.io.IOException {
+        switch (suite) {
+            case "engine" -> {
+                return engineSuite();
+            }
+            case "search" -> {
+                return searchSuite();
+            }
+            default -> throw new IllegalArgumentException("--suite must be engine or search, found '" + suite + "'");
+        }
+    }
+
+    private int searchSuite() throws java.io.IOException {
+        PrintWriter out = spec.commandLine().getOut();
+        if (seeds < 1) {
+            throw new IllegalArgumentException("--seeds must be at least 1, found " + seeds);
+        }
+        org.cruxset.search.bench.PlantedProblem.Config cfg = org.cruxset.search.bench.PlantedProblem.benchmark();
+        out.printf(Locale.ROOT, "Search suite: planted lesion problems of %d regions (%d redundant groups of %d, %d "
+                        + "synergistic pairs: proven minimum %d; traps of %d-%d regions), %d samples from %d subjects, "
+                        + "half of them in the search part; criterion binomial:0.05; seeds 1-%d, each run in a fresh "
+                        + "store.%n", cfg.regions(), cfg.groups(), cfg.groupSize(), cfg.pairs(),
+                cfg.groups() * cfg.groupSize() + cfg.pairs(), cfg.pairs() + cfg.trapsMin(), cfg.pairs() + cfg.trapsMax(),
+                cfg.subjects() * cfg.samplesPerSubject(), cfg.subjects(), seeds);
+        List<Long> seedList = new ArrayList<>();
+        for (long s = 1; s <= seeds; s++) {
+            seedList.add(s);
+        }
+        java.nio.file.Path dir = java.nio.file.Files.createTempDirectory("cruxset-bench-search-");
+        long t0 = System.nanoTime();
+        List<org.cruxset.search.bench.SearchSuite.Row> rows = org.cruxset.search.bench.SearchSuite.run(cfg, strategies,
+                budgets, seedList, dir, out);
+        List<String[]> table = new ArrayList<>();
+        table.add(new String[] {"strategy", "budget", "runs", "success rate", "median best size", "median sets to best",
+            "trapped"});
+        for (org.cruxset.search.bench.SearchSuite.Row r : rows) {
+            table.add(new String[] {r.strategy(), Long.toString(r.budget()), Integer.toString(r.runs()),
+                String.format(Locale.ROOT, "%d/%d", r.successes(), r.runs()),
+                Double.isInfinite(r.medianBest()) ? "none" : String.format(Locale.ROOT, "%.1f", r.medianBest()),
+                Double.isNaN(r.medianSetsToBest()) ? "-" : String.format(Locale.ROOT, "%.0f", r.medianSetsToBest()),
+                Integer.toString(r.trapped())});
+        }
+        out.println();
+        Table.print(out, table);
+        out.printf(Locale.ROOT, "%nWall time %.1f s. Stores in %s.%n", (System.nanoTime() - t0) / 1e9, dir);
+        return 0;
+    }
+
+    private int engineSuite() {
         validate();
         PrintWriter out = spec.commandLine().getOut();
         int nThreads = threads.threads();

@@ -1,0 +1,137 @@
+package org.cruxset.search.bench;
+
+import java.io.PrintWriter;
+import java.nio.file.Path;
+import java.util.ArrayList;
+import java.util.Arrays;
+import java.util.List;
+import org.cruxset.scoring.decoder.Decoder;
+import org.cruxset.scoring.eval.CollapseCriterion;
+import org.cruxset.scoring.eval.Parts;
+import org.cruxset.scoring.eval.ScoringSession;
+import org.cruxset.scoring.lesion.LesionMode;
+import org.cruxset.scoring.lesion.RegionSet;
+import org.cruxset.search.SearchRun;
+import org.cruxset.search.Strategy;
+import org.cruxset.search.strategy.GrowStrategy;
+import org.cruxset.search.strategy.RandomStrategy;
+import org.cruxset.search.strategy.RankedStrategy;
+
+/**
+ * The search benchmark: strategies run on {@link PlantedProblem} instances (one per seed, each run in a fresh store,
+ * through the real scorer, store and default criterion) at given budgets; per strategy and budget it reports the
+ * success rate (the proven minimum size reached), the median best critical size, the median sets charged to reach it,
+ * and how often the result contains a named trap.
+ */
+public final class SearchSuite {
+    /** The strategies of the suite; later strategies join this list. */
+    public static final List<String> STRATEGIES = List.of("random", "grow", "grow+prune", "ranked+prune");
+
+    /** One run: its strategy, seed, budget, best critical size (−1: none), sets to reach it, trapped, the proof. */
+    public record Run(String strategy, long seed, long budget, int bestSize, double chargedToBest, boolean trapped,
+                      PlantedProblem.Proof proof, int minimum) {
+        /** Whether the run reached the proven minimum size. */
+        public boolean success() {
+            return bestSize == minimum;
+        }
+    }
+
+    /** The summary of one strategy at one budget. */
+    public record Row(String strategy, long budget, int runs, int successes, double medianBest, double medianSetsToBest,
+                      int trapped) {
+    }
+
+    private SearchSuite() {
+    }
+
+    /** The strategy behind a suite name, and whether its best sets are pruned afterwards. */
+    static Strategy strategy(String name) {
+        return switch (name) {
+            case "random" -> new RandomStrategy();
+            case "grow", "grow+prune" -> new GrowStrategy(false, false);
+            case "grow-lazy+prune" -> new GrowStrategy(false, true);
+            case "ranked+prune" -> new RankedStrategy(null);
+            default -> throw new IllegalArgumentException("unknown suite strategy '" + name + "', expected one of "
+                    + STRATEGIES);
+        };
+    }
+
+    /** Runs {@code strategy} on the instance of {@code seed} with {@code budget} scored sets, in a store in {@code dir}. */
+    public static Run runOne(PlantedProblem.Config config, String strategy, long seed, long budget, Path dir) {
+        PlantedProblem p = new PlantedProblem(config, seed);
+        CollapseCriterion criterion = CollapseCriterion.defaults();
+        ScoringSession.Settings settings = new ScoringSession.Settings(LesionMode.ZERO, 0, null, criterion, budget, 1,
+                dir, "bench", "bench search " + strategy + " seed " + seed + " budget " + budget, seed,
+                Parts.DEFAULT_SEED, Parts.DEFAULT_CONFIRM);
+        try (Decoder decoder = p.decoder(); ScoringSession session = ScoringSession.open(decoder, p.cohort(), settings)) {
+            PlantedProblem.Proof proof = p.proof(PlantedProblem.ids(session.inputs().batch()), criterion);
+            boolean prune = strategy.endsWith("+prune") || strategy.equals("random");
+            SearchRun.Result r = SearchRun.run(session, strategy(strategy),
+                    new SearchRun.Settings(Double.POSITIVE_INFINITY, null, seed, prune, 5), null);
+            RegionSet trapRegions = p.trapRegions();
+            boolean trapped = false;
+            for (SearchRun.Reported x : r.reported()) {
+                boolean all = !trapRegions.isEmpty();
+                for (int t : trapRegions.positions()) {
+                    all &= x.set().contains(t);
+                }
+                trapped |= all;
+            }
+            return new Run(strategy, seed, budget, r.bestSize(), r.chargedAtBest(), trapped, proof, p.minimumSize());
+        }
+    }
+
+    /** Runs every strategy × budget × seed and summarises; {@code log} (nullable) hears each run. */
+    public static List<Row> run(PlantedProblem.Config config, List<String> strategies, List<Long> budgets,
+                                List<Long> seeds, Path dir, PrintWriter log) {
+        List<Row> rows = new ArrayList<>();
+        int n = 0;
+        for (String s : strategies) {
+            for (long b : budgets) {
+                List<Run> runs = new ArrayList<>();
+                for (long seed : seeds) {
+                    Run r = runOne(config, s, seed, b, dir.resolve("run-" + (n++)));
+                    if (!r.proof().holds()) {
+                        throw new IllegalStateException("the planted minimum of seed " + seed + " is not proven: " + r.proof());
+                    }
+                    runs.add(r);
+                    if (log != null) {
+                        log.printf("  %-14s budget %6d seed %3d: best critical size %s%s%s%n", s, b, seed,
+                                r.bestSize() < 0 ? "none" : r.bestSize(),
+                                r.bestSize() < 0 ? "" : String.format(" after %.0f sets", r.chargedToBest()),
+                                r.trapped() ? " (a trap)" : "");
+                        log.flush();
+                    }
+                }
+                rows.add(summarise(s, b, runs));
+            }
+        }
+        return rows;
+    }
+
+    static Row summarise(String strategy, long budget, List<Run> runs) {
+        double[] best = new double[runs.size()];
+        List<Double> toBest = new ArrayList<>();
+        int ok = 0;
+        int trapped = 0;
+        for (int i = 0; i < runs.size(); i++) {
+            Run r = runs.get(i);
+            best[i] = r.bestSize() < 0 ? Double.POSITIVE_INFINITY : r.bestSize();
+            if (r.bestSize() >= 0) {
+                toBest.add(r.chargedToBest());
+            }
+            ok += r.success() ? 1 : 0;
+            trapped += r.trapped() ? 1 : 0;
+        }
+        double[] tb = toBest.stream().mapToDouble(Double::doubleValue).toArray();
+        return new Row(strategy, budget, runs.size(), ok, median(best), tb.length == 0 ? Double.NaN : median(tb), trapped);
+    }
+
+    /** The median (mean of the middle two for an even count); infinities sort last. */
+    static double median(double[] v) {
+        double[] x = v.clone();
+        Arrays.sort(x);
+        int n = x.length;
+        return n % 2 == 1 ? x[n / 2] : (x[n / 2 - 1] + x[n / 2]) / 2;
+    }
+}
