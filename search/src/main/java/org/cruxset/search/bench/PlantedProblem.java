@@ -249,6 +249,19 @@ public final class PlantedProblem {
         return s;
     }
 
+    /** Every trap: one member of every pair, in every combination, plus every trap region. */
+    public List<RegionSet> traps() {
+        List<RegionSet> out = new ArrayList<>();
+        for (int choice = 0; choice < (1 << pairs.length); choice++) {
+            RegionSet s = trapRegions();
+            for (int j = 0; j < pairs.length; j++) {
+                s = s.with(pairs[j][(choice >>> j) & 1]);
+            }
+            out.add(s);
+        }
+        return out;
+    }
+
     /** The class labels, {@code c0 .. c(K-1)}. */
     public List<String> classLabels() {
         List<String> out = new ArrayList<>();
