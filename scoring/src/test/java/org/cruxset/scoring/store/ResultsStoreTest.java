@@ -408,6 +408,9 @@ class ResultsStoreTest {
                 try (ResultSet r = s.executeQuery("PRAGMA journal_mode")) {
                     assertEquals("wal", r.getString(1));
                 }
+                try (ResultSet r = s.executeQuery("PRAGMA page_size")) {
+                    assertEquals(ResultsStore.PAGE_SIZE, r.getInt(1), "new stores use large pages");
+                }
                 try (ResultSet r = s.executeQuery("SELECT version FROM schema_version")) {
                     assertEquals(ResultsStore.SCHEMA_VERSION, r.getInt(1));
                 }

@@ -85,8 +85,9 @@ public final class BenchCommand implements Callable<Integer> {
     ThreadOptions threads;
 
     @Option(names = "--suite", paramLabel = "NAME", defaultValue = "engine",
-            description = "engine (scored sets per second of both engines on the reference workload) or search (strategies "
-                    + "on planted lesion problems with a proven minimum and traps). Default: ${DEFAULT-VALUE}.")
+            description = "engine (scored sets per second of both engines on the reference workload), search (strategies "
+                    + "on planted lesion problems with a proven minimum and traps) or soak (many sets through the scorer "
+                    + "and store: sets per second, store bytes per set, heap in use). Default: ${DEFAULT-VALUE}.")
     String suite;
 
     @Option(names = "--seeds", paramLabel = "N", defaultValue = "5",
@@ -110,7 +111,10 @@ public final class BenchCommand implements Callable<Integer> {
             case "search" -> {
                 return searchSuite();
             }
-            default -> throw new IllegalArgumentException("--suite must be engine or search, found '" + suite + "'");
+            case "soak" -> {
+                return soakSuite();
+            }
+            default -> throw new IllegalArgumentException("--suite must be engine, search or soak, found '" + suite + "'");
         }
     }
 
@@ -149,6 +153,33 @@ public final class BenchCommand implements Callable<Integer> {
         out.printf(Locale.ROOT, "%nWall time %.1f s. Stores in %s.%n", (System.nanoTime() - t0) / 1e9, dir);
         return 0;
     }
+
+    private int soakSuite() throws java.io.IOException {
+        PrintWriter out = spec.commandLine().getOut();
+        long n = sets > 0 ? sets : 1_000_000;
+        java.nio.file.Path dir = java.nio.file.Files.createTempDirectory("cruxset-bench-soak-");
+        out.printf(Locale.ROOT, "Soak: %,d random sets (1-30 of 300 regions) of a planted problem scored through the "
+                + "scorer and the results store in batches of 1,000; max heap %.0f MB; score cache %d MB.%n", n,
+                Runtime.getRuntime().maxMemory() / 1048576.0, org.cruxset.scoring.eval.LesionScorer.CACHE_MB);
+        org.cruxset.search.bench.Soak.Result r = org.cruxset.search.bench.Soak.run(n, 1000, dir, out);
+        out.printf(Locale.ROOT, "Scored %,d sets of %d samples in %.1f s: %.0f sets/s. Store %,d bytes: %.0f bytes per "
+                        + "scored set (%.1f per sample). Heap in use after a collection: %.0f MB at 10%%, %.0f MB at the end.%n",
+                r.sets(), r.samples(), r.seconds(), r.setsPerSecond(), r.storeBytes(), r.bytesPerSet(),
+                r.bytesPerSet() / r.samples(), r.points().get(0).heapMb(), r.points().get(r.points().size() - 1).heapMb());
+        if (!keep) {
+            try (java.util.stream.Stream<java.nio.file.Path> files = java.nio.file.Files.walk(dir)) {
+                for (java.nio.file.Path f : files.sorted(java.util.Comparator.reverseOrder()).toList()) {
+                    java.nio.file.Files.deleteIfExists(f);
+                }
+            }
+        } else {
+            out.println("Store kept in " + dir);
+        }
+        return 0;
+    }
+
+    @Option(names = "--keep", description = "soak: keep the store (default: deleted after measuring).")
+    boolean keep;
 
     private int engineSuite() {
         validate();
