@@ -28,6 +28,10 @@ class DemoTest {
         String control = r.out().lines().filter(l -> l.contains("(as many decoys)")).findFirst().orElseThrow();
         assertTrue(control.matches(".*survives.*survives\\s*"), control);
         assertTrue(r.out().contains("-> Confirmed: "), r.out());
+        assertTrue(r.out().contains("A short search over all 100 regions (grow, then prune)"), r.out());
+        String found = r.out().lines().filter(l -> l.contains("(size ") && l.contains("irreducible")).findFirst()
+                .orElseThrow(() -> new AssertionError("the demo's search reports a certified set:\n" + r.out()));
+        assertTrue(found.endsWith("one of the truth's smallest critical sets"), found);
         assertTrue(r.out().contains("a search part of 216 samples (18 subjects)"), r.out());
         assertFalse(r.out().contains("differs from the one"), "the cohort generated here matches the committed summary:\n"
                 + r.out());

@@ -18,6 +18,9 @@ import org.cruxset.scoring.onnx.OnnxModels;
 import org.cruxset.scoring.onnx.OnnxOptions;
 import org.cruxset.scoring.simulate.SimulatedCohorts;
 import org.cruxset.scoring.simulate.TruthFile;
+import org.cruxset.search.SearchRun;
+import org.cruxset.search.strategy.GrowStrategy;
+import org.cruxset.search.strategy.PruneStrategy;
 import picocli.CommandLine.Command;
 import picocli.CommandLine.Mixin;
 import picocli.CommandLine.Model.CommandSpec;
@@ -26,9 +29,10 @@ import picocli.CommandLine.Spec;
 
 /** {@code cruxset demo}: the main job on the bundled synthetic cohort and its trained decoder. */
 @Command(name = "demo", mixinStandardHelpOptions = true,
-        description = {"Run Cruxset on the bundled synthetic demo: the decoder's held-out accuracy on the search and",
-            "confirmation parts, and what lesioning its smallest critical set (and, as a control, as many decoy regions)",
-            "does to it. The demo cohort is generated from DIR/demo.yaml on first use (a few seconds)."})
+        description = {"Run Cruxset on the bundled synthetic demo: the decoder's held-out accuracy on the search and "
+                + "confirmation parts, what lesioning its smallest critical sets (and, as a control, as many decoy regions) "
+                + "does to it, and a short search that finds them without the truth. The demo cohort is generated from "
+                + "DIR/demo.yaml on first use (a few seconds)."})
 public final class DemoCommand implements Callable<Integer> {
     /** The demo's settings, decoder and committed truth inside the demo folder. */
     static final String CONFIG = "demo.yaml";
@@ -132,6 +136,29 @@ public final class DemoCommand implements Callable<Integer> {
                 pw.printf("-> Confirmed: %d of %d smallest critical set(s) found on the search part are also critical on "
                         + "the confirmation part, whose subjects the truth never saw.%n", ok, smallest.size());
             }
+            pw.println();
+            pw.println("A short search over all " + session.inputs().batch().regions() + " regions (grow, then prune), "
+                    + "without looking at the truth:");
+            SearchRun.Result r = SearchRun.run(session, new GrowStrategy(false, false),
+                    new SearchRun.Settings(Double.POSITIVE_INFINITY, null, 1, true, PruneStrategy.DEFAULT_CERTIFY), null);
+            for (SearchRun.Reported x : r.reported()) {
+                String names = SearchCommand.names(session, x.set());
+                boolean inTruth = smallest.stream().anyMatch(t -> new java.util.HashSet<>(t).equals(
+                        new java.util.HashSet<>(List.of(names.split(",")))));
+                pw.printf("  %s (size %d): search %s, confirmation %s, %s; %s%n", names, x.set().size(),
+                        accuracy(x.search()), x.confirmation() == null ? "-" : accuracy(x.confirmation())
+                                + (x.confirmationCritical() ? " CRITICAL" : " not confirmed"),
+                        x.certificate() == null ? "not certified" : "irreducible",
+                        inTruth ? "one of the truth's smallest critical sets" : x.set().size() < size
+                                ? "smaller than the truth's (found outside the planted pool)" : "not in the truth");
+            }
+            if (r.reported().isEmpty()) {
+                pw.println("  no critical set found");
+            }
+            pw.printf("  %.0f sets scored on the search part by this demo run, the table above included.%n", r.charged());
+            pw.printf("%nSearch for yourself (an overnight run takes --hours or --until; kill it and rerun to resume):%n"
+                    + "  ./cruxset search --model %s --cohort %s --strategy grow --budget 5000 --out %s%n",
+                    modelFile, cohortDir, scoring.out());
             pw.printf("%nScore lesions of your own choice (kept and reused in %s):%n"
                     + "  ./cruxset score --model %s --cohort %s --lesion \"%s\" --lesion network:%s --out %s%n",
                     scoring.out().resolve(ScoringSession.STORE_FILE), modelFile, cohortDir, String.join(",", smallest.get(0)),

@@ -1,0 +1,160 @@
+package org.cruxset.tests;
+
+import static org.junit.jupiter.api.Assertions.assertEquals;
+import static org.junit.jupiter.api.Assertions.assertTrue;
+
+import java.nio.file.Files;
+import java.nio.file.Path;
+import java.sql.Connection;
+import java.sql.DriverManager;
+import java.sql.ResultSet;
+import java.sql.SQLException;
+import java.sql.Statement;
+import java.util.ArrayList;
+import java.util.List;
+import java.util.concurrent.TimeUnit;
+import java.util.regex.Matcher;
+import java.util.regex.Pattern;
+import org.cruxset.scoring.simulate.TruthFile;
+import org.junit.jupiter.api.Test;
+import org.junit.jupiter.api.io.TempDir;
+
+/** cruxset search on the demo: against the decoder's own truth, confirmed, and resumed after kill -9. */
+class SearchCommandTest {
+    static List<String> args(Path out, String... more) {
+        List<String> a = new ArrayList<>(List.of("search", "--model", DemoData.MODEL.toString(), "--cohort",
+                DemoData.COHORT.toString(), "--out", out.toString(), "--threads", "1"));
+        a.addAll(List.of(more));
+        return a;
+    }
+
+    /** The best critical size printed, or -1. */
+    static int bestSize(String out) {
+        Matcher m = Pattern.compile("Smallest critical sets found: size ([0-9]+)").matcher(out);
+        return m.find() ? Integer.parseInt(m.group(1)) : -1;
+    }
+
+    /** The lines of the reported sets' table and of the front. */
+    static List<String> results(String out) {
+        List<String> rows = new ArrayList<>();
+        boolean in = false;
+        for (String line : out.split("\n")) {
+            if (line.startsWith("#  regions") || line.startsWith("size  accuracy")) {
+                in = true;
+            } else if (in && (line.isBlank() || line.startsWith("Core") || line.startsWith("Results"))) {
+                in = false;
+            }
+            if (in) {
+                rows.add(line.strip());
+            }
+        }
+        return rows;
+    }
+
+    // Must show: grow+prune finds a critical set no larger than the smallest in the decoder's own truth on the search
+    // part, and says whether it is confirmed on the confirmation part.
+    @Test
+    void growThenPruneMatchesTheDecodersOwnTruthAndIsConfirmed(@TempDir Path out) {
+        int truth = TruthFile.decoderMinimumSets(DemoData.TRUTH).get(0).size();
+        Cli.Run r = Cli.run(args(out, "--strategy", "grow", "--budget", "3000", "--seed", "7").toArray(String[]::new))
+                .requireSuccess();
+        int best = bestSize(r.out());
+        assertTrue(best > 0 && best <= truth, "best " + best + ", truth " + truth + ":\n" + r.out());
+        String first = r.out().lines().filter(l -> l.startsWith("1  ")).findFirst().orElseThrow();
+        assertTrue(first.contains("CRITICAL") && first.endsWith("irreducible"), first);
+        assertTrue(first.matches(".*CRITICAL.*(CRITICAL|not confirmed).*"), "the confirmation verdict is shown: " + first);
+        assertTrue(r.out().contains("Stopped: finished"), r.out());
+        assertTrue(r.out().contains("Front (best set found at each size)"), r.out());
+        Cli.Run export = Cli.run("export", "--out", out.toString()).requireSuccess();
+        assertTrue(export.out().contains("Wrote TSV views"), export.out());
+        assertTrue(Files.exists(out.resolve("export").resolve("search_trace.tsv")));
+    }
+
+    @Test
+    void rankedReportsTheSmallestCriticalPrefixAndBadOptionsAreClearErrors(@TempDir Path out) {
+        Cli.Run r = Cli.run(args(out, "--strategy", "ranked", "--budget", "1000").toArray(String[]::new)).requireSuccess();
+        assertTrue(r.out().contains("Ranking: smallest critical prefix"), r.out());
+        Cli.Run bad = Cli.run(args(out, "--strategy", "annealing").toArray(String[]::new));
+        assertEquals(2, bad.exit(), bad.err());
+        assertTrue(bad.err().contains("--strategy must be grow, ranked, prune, exhaustive or random"), bad.err());
+        Cli.Run budget = Cli.run(args(out, "--budget", "0").toArray(String[]::new));
+        assertEquals(2, budget.exit(), budget.err());
+        assertTrue(budget.err().contains("--budget must be at least 1"), budget.err());
+    }
+
+    @Test
+    void aBudgetTooSmallStopsWithWhatWasFoundAndSaysSo(@TempDir Path out) {
+        Cli.Run r = Cli.run(args(out, "--strategy", "grow", "--budget", "150").toArray(String[]::new)).requireSuccess();
+        assertTrue(r.out().contains("Stopped: budget (the budget of 150 scored sets is spent)"), r.out());
+        assertTrue(r.out().contains("Scored sets charged: 150 of 150"), r.out());
+        assertTrue(r.out().contains("No critical set was found"), r.out());
+    }
+
+    private static long count(Path db, String sql) throws SQLException {
+        try (Connection c = DriverManager.getConnection("jdbc:sqlite:" + db);
+             Statement st = c.createStatement();
+             ResultSet rs = st.executeQuery(sql)) {
+            return rs.next() ? rs.getLong(1) : 0;
+        }
+    }
+
+    private static List<String> trace(Path db) throws SQLException {
+        List<String> rows = new ArrayList<>();
+        try (Connection c = DriverManager.getConnection("jdbc:sqlite:" + db);
+             Statement st = c.createStatement();
+             ResultSet rs = st.executeQuery("SELECT t.position, t.sets_charged, t.set_size, t.critical, e.set_hex FROM "
+                     + "search_trace t JOIN evaluations e ON e.id = t.evaluation_id ORDER BY t.position")) {
+            while (rs.next()) {
+                rows.add(rs.getInt(1) + " " + rs.getDouble(2) + " " + rs.getInt(3) + " " + rs.getInt(4) + " "
+                        + rs.getString(5));
+            }
+        }
+        return rows;
+    }
+
+    // Must show: kill -9 mid-search, rerun the same command: the same final sets, each set paid once.
+    @Test
+    void aSearchKilledMidWayResumesToTheSameResultPayingEachSetOnce(@TempDir Path dir) throws Exception {
+        Path killed = dir.resolve("killed");
+        Path db = killed.resolve("results.sqlite");
+        String[] more = {"--strategy", "grow", "--budget", "3000", "--seed", "3"};
+        List<String> cmd = new ArrayList<>(List.of(Path.of(System.getProperty("java.home"), "bin", "java").toString(),
+                "-cp", System.getProperty("java.class.path"), "org.cruxset.search.cli.CruxsetCommand"));
+        cmd.addAll(args(killed, more));
+        Process child = new ProcessBuilder(cmd).redirectErrorStream(true)
+                .redirectOutput(dir.resolve("child.log").toFile()).start();
+        long deadline = System.nanoTime() + TimeUnit.SECONDS.toNanos(120);
+        long seen = 0;
+        while (System.nanoTime() < deadline && child.isAlive()) {
+            if (Files.exists(db)) {
+                try {
+                    seen = count(db, "SELECT COUNT(*) FROM run_evaluations");
+                } catch (SQLException busyOrNotYetCreated) {
+                    seen = 0;
+                }
+                if (seen >= 160) {
+                    break;
+                }
+            }
+            Thread.sleep(10);
+        }
+        assertTrue(child.isAlive(), "the child must still be running when killed (saw " + seen + " sets); log: "
+                + Files.readString(dir.resolve("child.log")));
+        child.destroyForcibly();
+        assertTrue(child.waitFor(30, TimeUnit.SECONDS));
+        assertEquals(137, child.exitValue(), "killed by SIGKILL");
+
+        Cli.Run resumed = Cli.run(args(killed, more).toArray(String[]::new)).requireSuccess();
+        assertTrue(resumed.out().contains("Resuming an earlier run of this command"), resumed.out());
+        Cli.Run clean = Cli.run(args(dir.resolve("clean"), more).toArray(String[]::new)).requireSuccess();
+        assertEquals(results(clean.out()), results(resumed.out()), "the same final sets and front");
+        Path cleanDb = dir.resolve("clean").resolve("results.sqlite");
+        assertEquals(trace(cleanDb), trace(db), "the same anytime trace");
+        assertEquals(count(cleanDb, "SELECT total(cost) FROM run_evaluations"),
+                count(db, "SELECT total(cost) FROM run_evaluations"), "the same sets charged");
+        assertEquals(count(db, "SELECT COUNT(*) FROM evaluations"), count(db, "SELECT COUNT(*) FROM run_evaluations"),
+                "each evaluation linked to the run once");
+        assertEquals(1, count(db, "SELECT COUNT(*) FROM runs"));
+        assertEquals(1, count(db, "SELECT COUNT(*) FROM certificates"), "a certificate recorded once");
+    }
+}
