@@ -13,7 +13,6 @@ import java.sql.Statement;
 import java.util.ArrayList;
 import java.util.List;
 import java.util.SplittableRandom;
-import java.util.concurrent.TimeUnit;
 import org.junit.jupiter.api.Test;
 import org.junit.jupiter.api.io.TempDir;
 
@@ -33,44 +32,12 @@ class KillResumeTest {
         return a;
     }
 
-    private static long count(Path db, String sql) throws SQLException {
-        try (Connection c = DriverManager.getConnection("jdbc:sqlite:" + db);
-             Statement st = c.createStatement();
-             ResultSet rs = st.executeQuery(sql)) {
-            return rs.next() ? rs.getLong(1) : 0;
-        }
-    }
-
     @Test
     void killedRunResumesWithIdenticalResultsAndNoDuplicates(@TempDir Path dir) throws Exception {
         Path killed = dir.resolve("killed");
         Path db = killed.resolve("results.sqlite");
-        List<String> cmd = new ArrayList<>(List.of(Path.of(System.getProperty("java.home"), "bin", "java").toString(),
-                "-cp", System.getProperty("java.class.path"), "org.cruxset.search.cli.CruxsetCommand"));
-        cmd.addAll(args(killed));
-        Process child = new ProcessBuilder(cmd).redirectErrorStream(true)
-                .redirectOutput(dir.resolve("child.log").toFile()).start();
-        long deadline = System.nanoTime() + TimeUnit.SECONDS.toNanos(120);
-        long seen = 0;
-        while (System.nanoTime() < deadline && child.isAlive()) {
-            if (Files.exists(db)) {
-                try {
-                    seen = count(db, "SELECT COUNT(*) FROM evaluations");
-                } catch (SQLException busyOrNotYetCreated) {
-                    seen = 0;
-                }
-                if (seen >= KILL_AT) {
-                    break;
-                }
-            }
-            Thread.sleep(10);
-        }
-        assertTrue(child.isAlive(), "the child must still be running when killed (saw " + seen + " rows); log: "
-                + Files.readString(dir.resolve("child.log")));
-        child.destroyForcibly();
-        assertTrue(child.waitFor(30, TimeUnit.SECONDS));
-        assertEquals(137, child.exitValue(), "killed by SIGKILL");
-        long afterKill = count(db, "SELECT COUNT(*) FROM evaluations");
+        long seen = Killed.runAndKill(dir, args(killed), db, "SELECT COUNT(*) FROM evaluations", KILL_AT);
+        long afterKill = Killed.count(db, "SELECT COUNT(*) FROM evaluations");
         assertTrue(afterKill >= seen && afterKill < 2 * (SETS + 1), "rows after the kill (both parts): " + afterKill);
 
         Cli.Run resumed = Cli.run(args(killed).toArray(String[]::new)).requireSuccess();
@@ -78,14 +45,14 @@ class KillResumeTest {
         Cli.Run clean = Cli.run(args(dir.resolve("clean")).toArray(String[]::new)).requireSuccess();
 
         assertEquals(tableOf(clean.out()), tableOf(resumed.out()), "resumed results equal an uninterrupted run's");
-        long distinct = count(db, "SELECT COUNT(DISTINCT data_hash || set_hex) FROM evaluations");
-        assertEquals(distinct, count(db, "SELECT COUNT(*) FROM evaluations"), "no duplicate evaluations");
-        assertEquals(count(dir.resolve("clean").resolve("results.sqlite"), "SELECT COUNT(*) FROM evaluations"), distinct);
-        assertEquals(1, count(db, "SELECT COUNT(*) FROM runs"), "the same command resumed the same run");
-        assertEquals(distinct, count(db, "SELECT COUNT(*) FROM run_evaluations"), "each set linked once");
-        long searchSets = count(db, "SELECT COUNT(*) FROM evaluations e JOIN runs r ON e.data_hash = r.data_hash");
+        long distinct = Killed.count(db, "SELECT COUNT(DISTINCT data_hash || set_hex) FROM evaluations");
+        assertEquals(distinct, Killed.count(db, "SELECT COUNT(*) FROM evaluations"), "no duplicate evaluations");
+        assertEquals(Killed.count(dir.resolve("clean").resolve("results.sqlite"), "SELECT COUNT(*) FROM evaluations"), distinct);
+        assertEquals(1, Killed.count(db, "SELECT COUNT(*) FROM runs"), "the same command resumed the same run");
+        assertEquals(distinct, Killed.count(db, "SELECT COUNT(*) FROM run_evaluations"), "each set linked once");
+        long searchSets = Killed.count(db, "SELECT COUNT(*) FROM evaluations e JOIN runs r ON e.data_hash = r.data_hash");
         assertEquals(distinct / 2, searchSets, "half the evaluations are on the search part");
-        assertEquals(searchSets, count(db, "SELECT CAST(total(cost) AS INTEGER) FROM run_evaluations"),
+        assertEquals(searchSets, Killed.count(db, "SELECT CAST(total(cost) AS INTEGER) FROM run_evaluations"),
                 "each search-part set paid once; confirmation scores are not charged");
         assertEquals("finished", stringOf(db, "SELECT status FROM runs"));
     }

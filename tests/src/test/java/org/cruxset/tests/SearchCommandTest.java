@@ -12,7 +12,6 @@ import java.sql.SQLException;
 import java.sql.Statement;
 import java.util.ArrayList;
 import java.util.List;
-import java.util.concurrent.TimeUnit;
 import java.util.regex.Matcher;
 import java.util.regex.Pattern;
 import org.cruxset.scoring.simulate.TruthFile;
@@ -74,6 +73,12 @@ class SearchCommandTest {
     void rankedReportsTheSmallestCriticalPrefixAndBadOptionsAreClearErrors(@TempDir Path out) {
         Cli.Run r = Cli.run(args(out, "--strategy", "ranked", "--budget", "1000").toArray(String[]::new)).requireSuccess();
         assertTrue(r.out().contains("Ranking: smallest critical prefix"), r.out());
+        Path file = out.resolve("ranking-single-lesion.tsv");
+        assertTrue(r.out().contains("Single-lesion ranking written to " + file), r.out());
+        Cli.Run again = Cli.run(args(out.resolve("again"), "--strategy", "ranked", "--ranking", file.toString(),
+                "--budget", "1000").toArray(String[]::new)).requireSuccess();
+        assertEquals(bestSize(r.out()), bestSize(again.out()), "the written ranking gives the same result:\n"
+                + again.out());
         Cli.Run bad = Cli.run(args(out, "--strategy", "annealing").toArray(String[]::new));
         assertEquals(2, bad.exit(), bad.err());
         assertTrue(bad.err().contains("--strategy must be grow, ranked, prune, exhaustive or random"), bad.err());
@@ -88,14 +93,6 @@ class SearchCommandTest {
         assertTrue(r.out().contains("Stopped: budget (the budget of 150 scored sets is spent)"), r.out());
         assertTrue(r.out().contains("Scored sets charged: 150 of 150"), r.out());
         assertTrue(r.out().contains("No critical set was found"), r.out());
-    }
-
-    private static long count(Path db, String sql) throws SQLException {
-        try (Connection c = DriverManager.getConnection("jdbc:sqlite:" + db);
-             Statement st = c.createStatement();
-             ResultSet rs = st.executeQuery(sql)) {
-            return rs.next() ? rs.getLong(1) : 0;
-        }
     }
 
     private static List<String> trace(Path db) throws SQLException {
@@ -118,31 +115,7 @@ class SearchCommandTest {
         Path killed = dir.resolve("killed");
         Path db = killed.resolve("results.sqlite");
         String[] more = {"--strategy", "grow", "--budget", "3000", "--seed", "3"};
-        List<String> cmd = new ArrayList<>(List.of(Path.of(System.getProperty("java.home"), "bin", "java").toString(),
-                "-cp", System.getProperty("java.class.path"), "org.cruxset.search.cli.CruxsetCommand"));
-        cmd.addAll(args(killed, more));
-        Process child = new ProcessBuilder(cmd).redirectErrorStream(true)
-                .redirectOutput(dir.resolve("child.log").toFile()).start();
-        long deadline = System.nanoTime() + TimeUnit.SECONDS.toNanos(120);
-        long seen = 0;
-        while (System.nanoTime() < deadline && child.isAlive()) {
-            if (Files.exists(db)) {
-                try {
-                    seen = count(db, "SELECT COUNT(*) FROM run_evaluations");
-                } catch (SQLException busyOrNotYetCreated) {
-                    seen = 0;
-                }
-                if (seen >= 160) {
-                    break;
-                }
-            }
-            Thread.sleep(10);
-        }
-        assertTrue(child.isAlive(), "the child must still be running when killed (saw " + seen + " sets); log: "
-                + Files.readString(dir.resolve("child.log")));
-        child.destroyForcibly();
-        assertTrue(child.waitFor(30, TimeUnit.SECONDS));
-        assertEquals(137, child.exitValue(), "killed by SIGKILL");
+        Killed.runAndKill(dir, args(killed, more), db, "SELECT COUNT(*) FROM run_evaluations", 160);
 
         Cli.Run resumed = Cli.run(args(killed, more).toArray(String[]::new)).requireSuccess();
         assertTrue(resumed.out().contains("Resuming an earlier run of this command"), resumed.out());
@@ -150,11 +123,11 @@ class SearchCommandTest {
         assertEquals(results(clean.out()), results(resumed.out()), "the same final sets and front");
         Path cleanDb = dir.resolve("clean").resolve("results.sqlite");
         assertEquals(trace(cleanDb), trace(db), "the same anytime trace");
-        assertEquals(count(cleanDb, "SELECT total(cost) FROM run_evaluations"),
-                count(db, "SELECT total(cost) FROM run_evaluations"), "the same sets charged");
-        assertEquals(count(db, "SELECT COUNT(*) FROM evaluations"), count(db, "SELECT COUNT(*) FROM run_evaluations"),
+        assertEquals(Killed.count(cleanDb, "SELECT total(cost) FROM run_evaluations"),
+                Killed.count(db, "SELECT total(cost) FROM run_evaluations"), "the same sets charged");
+        assertEquals(Killed.count(db, "SELECT COUNT(*) FROM evaluations"), Killed.count(db, "SELECT COUNT(*) FROM run_evaluations"),
                 "each evaluation linked to the run once");
-        assertEquals(1, count(db, "SELECT COUNT(*) FROM runs"));
-        assertEquals(1, count(db, "SELECT COUNT(*) FROM certificates"), "a certificate recorded once");
+        assertEquals(1, Killed.count(db, "SELECT COUNT(*) FROM runs"));
+        assertEquals(1, Killed.count(db, "SELECT COUNT(*) FROM certificates"), "a certificate recorded once");
     }
 }

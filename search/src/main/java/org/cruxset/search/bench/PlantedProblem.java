@@ -229,9 +229,14 @@ public final class PlantedProblem {
 
     /** The minimum critical sets: the core plus one member of each pair, in every combination. */
     public List<RegionSet> minimumSets() {
+        return withOneMemberOfEachPair(core());
+    }
+
+    /** {@code base} plus one member of every pair, in every combination. */
+    private List<RegionSet> withOneMemberOfEachPair(RegionSet base) {
         List<RegionSet> out = new ArrayList<>();
         for (int choice = 0; choice < (1 << pairs.length); choice++) {
-            RegionSet s = core();
+            RegionSet s = base;
             for (int j = 0; j < pairs.length; j++) {
                 s = s.with(pairs[j][(choice >>> j) & 1]);
             }
@@ -251,15 +256,7 @@ public final class PlantedProblem {
 
     /** Every trap: one member of every pair, in every combination, plus every trap region. */
     public List<RegionSet> traps() {
-        List<RegionSet> out = new ArrayList<>();
-        for (int choice = 0; choice < (1 << pairs.length); choice++) {
-            RegionSet s = trapRegions();
-            for (int j = 0; j < pairs.length; j++) {
-                s = s.with(pairs[j][(choice >>> j) & 1]);
-            }
-            out.add(s);
-        }
-        return out;
+        return withOneMemberOfEachPair(trapRegions());
     }
 
     /** The class labels, {@code c0 .. c(K-1)}. */

@@ -49,6 +49,9 @@ import picocli.CommandLine.Spec;
                 + "charged). Kill the run at any time: the same command resumes it and ends with the same result, each "
                 + "set paid once."})
 public final class SearchCommand implements Callable<Integer> {
+    /** Where a ranked search writes the single-lesion ranking it computed, inside the output folder. */
+    static final String RANKING_FILE = "ranking-single-lesion.tsv";
+
     @Spec
     CommandSpec spec;
 
@@ -246,6 +249,11 @@ public final class SearchCommand implements Callable<Integer> {
                         + "replayed %d already paid; %.1f s of search.%n", r.status(), r.stopMessage(), r.charged(),
                 budget == null ? "" : " of " + budget, session.scorer().decodedCount(), session.scorer().storedCount(),
                 session.scorer().replayedCount(), r.elapsedSeconds());
+        if (s instanceof RankedStrategy ranked && ranked.ranking() != null && ranking == null) {
+            Path file = scoring.out().resolve(RANKING_FILE);
+            RankingFile.write(file, ranked.ranking());
+            pw.printf("Single-lesion ranking written to %s (give it to --ranking, or read it in Python or R).%n", file);
+        }
         if (s instanceof RankedStrategy ranked && ranked.prefix() != null) {
             CriticalPrefix.Result p = ranked.prefix();
             pw.printf("Ranking: smallest critical prefix %s of %d units (%d prefixes scored)%s.%n",
