@@ -19,8 +19,9 @@ import org.cruxset.scoring.store.SearchRecords;
  * What a strategy sees: the search part's scorer behind a budget and a clock, the collapse criterion, the intact
  * score, the search's seed, and the {@link Front} of what was found. Every set goes through {@link #score}, which
  * scores as much of a batch as the budget allows (the last batch is truncated to meet it exactly), records front
- * improvements in the store's anytime trace, and throws {@link StopSearch} when the budget or time is spent. Not
- * thread-safe.
+ * improvements in the store's anytime trace, and throws {@link StopSearch} when the budget or time is spent. Once the
+ * time is spent it still replays sets the run had already paid for (they cost no time), so a resumed run with no time
+ * left reports what it had found. Not thread-safe.
  */
 public final class SearchContext {
     /** Told after every scored batch. */
@@ -125,6 +126,16 @@ public final class SearchContext {
         return elapsedBefore + (System.nanoTime() - startNanos) / 1e9;
     }
 
+    /** Search time spent in earlier sessions of this run, in seconds. */
+    public double elapsedBeforeSeconds() {
+        return elapsedBefore;
+    }
+
+    /** Search time left, in seconds (infinite without a time limit; a deadline is not counted here). */
+    public double secondsLeft() {
+        return Math.max(0, timeLimitSeconds - elapsedSeconds());
+    }
+
     /** Batches scored in this session. */
     public int batches() {
         return batches;
@@ -141,8 +152,15 @@ public final class SearchContext {
      */
     public List<LesionScorer.Scored> score(List<RegionSet> sets) {
         if (timeUp()) {
-            throw new StopSearch(StopSearch.Reason.TIME, "the time limit was reached after "
-                    + Math.round(elapsedSeconds()) + " s of search");
+            // Sets this run already paid for cost no time: a resumed run replays them to its frontier, then stops.
+            List<LesionScorer.Scored> replayed = scorer.scorePaid(sets);
+            batches++;
+            account(replayed);
+            if (replayed.size() < sets.size()) {
+                throw new StopSearch(StopSearch.Reason.TIME, "the time limit was reached after "
+                        + Math.round(elapsedSeconds()) + " s of search");
+            }
+            return replayed;
         }
         List<LesionScorer.Scored> scored = scorer.scoreWithinBudget(sets);
         batches++;

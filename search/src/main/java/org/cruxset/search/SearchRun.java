@@ -43,7 +43,7 @@ public final class SearchRun {
      */
     public record Result(String status, String stopMessage, int bestSize, List<Reported> reported, RegionSet core,
                          RegionSet interchangeable, List<Front.Entry> front, double charged, double chargedAtBest,
-                         int notKept, boolean resumed, double elapsedSeconds) {
+                         int notKept, boolean resumed, double elapsedSeconds, double elapsedBeforeSeconds) {
         public Result {
             reported = List.copyOf(reported);
             front = List.copyOf(front);
@@ -126,7 +126,8 @@ public final class SearchRun {
         }
         return new Result(status, message, front.bestCriticalSize(), reported,
                 core == null ? RegionSet.empty(ctx.regions()) : core, interchangeable, front.entries(), ctx.charged(),
-                ctx.chargedAtBest(), front.notKept(), session.run() != null && session.run().resumed(), ctx.elapsedSeconds());
+                ctx.chargedAtBest(), front.notKept(), session.run() != null && session.run().resumed(), ctx.elapsedSeconds(),
+                ctx.elapsedBeforeSeconds());
     }
 
     private static RegionSet intersect(RegionSet a, RegionSet b) {

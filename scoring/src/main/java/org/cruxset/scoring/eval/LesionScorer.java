@@ -165,7 +165,7 @@ public final class LesionScorer {
      * not yet paid for do not fit the budget.
      */
     public List<Scored> score(List<RegionSet> sets) {
-        return score(sets, false);
+        return score(sets, false, budget.remaining());
     }
 
     /**
@@ -173,10 +173,18 @@ public final class LesionScorer {
      * of that prefix (all of {@code sets} when they fit): how a search meets its budget exactly.
      */
     public List<Scored> scoreWithinBudget(List<RegionSet> sets) {
-        return score(sets, true);
+        return score(sets, true, budget.remaining());
     }
 
-    private List<Scored> score(List<RegionSet> sets, boolean truncate) {
+    /**
+     * Returns the longest prefix of {@code sets} that this run has already paid for, decoding and charging nothing:
+     * how a resumed search replays what it had found when it has no time left to score anything new.
+     */
+    public List<Scored> scorePaid(List<RegionSet> sets) {
+        return score(sets, true, 0);
+    }
+
+    private List<Scored> score(List<RegionSet> sets, boolean truncate, double available) {
         Map<RegionSet, Scored> result = new HashMap<>();
         Set<RegionSet> unknown = new LinkedHashSet<>();
         for (RegionSet s : sets) {
@@ -209,12 +217,12 @@ public final class LesionScorer {
                 }
             }
             double cost = unpaid.size() * costPerSet;
-            if (!budget.allows(cost)) {
+            if (!budget.allows(cost) || cost > available + 1e-9) {
                 if (!truncate) {
                     throw new IllegalStateException("budget exhausted: " + budget.spent() + " of " + budget.limit()
                             + " scored sets spent, " + cost + " more needed");
                 }
-                keep = fittingPrefix(sets, unpaid);
+                keep = fittingPrefix(sets, unpaid, Math.min(available, budget.remaining()));
                 Set<RegionSet> kept = new HashSet<>(sets.subList(0, keep));
                 byKey.values().removeIf(s -> !kept.contains(s));
             }
@@ -253,14 +261,14 @@ public final class LesionScorer {
         return out;
     }
 
-    /** The longest prefix of {@code sets} whose distinct unpaid sets fit the remaining budget. */
-    private int fittingPrefix(List<RegionSet> sets, Set<RegionSet> unpaid) {
+    /** The longest prefix of {@code sets} whose distinct unpaid sets cost at most {@code available}. */
+    private int fittingPrefix(List<RegionSet> sets, Set<RegionSet> unpaid, double available) {
         double spent = 0;
         Set<RegionSet> counted = new HashSet<>();
         for (int i = 0; i < sets.size(); i++) {
             RegionSet s = sets.get(i);
             if (unpaid.contains(s) && counted.add(s)) {
-                if (!budget.allows(spent + costPerSet)) {
+                if (spent + costPerSet > available + 1e-9) {
                     return i;
                 }
                 spent += costPerSet;

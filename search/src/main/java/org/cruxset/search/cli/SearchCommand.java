@@ -249,6 +249,10 @@ public final class SearchCommand implements Callable<Integer> {
                         + "replayed %d already paid; %.1f s of search.%n", r.status(), r.stopMessage(), r.charged(),
                 budget == null ? "" : " of " + budget, session.scorer().decodedCount(), session.scorer().storedCount(),
                 session.scorer().replayedCount(), r.elapsedSeconds());
+        if (r.resumed()) {
+            pw.printf("Resumed: %.1f s of search were spent in earlier sessions of this run%s.%n", r.elapsedBeforeSeconds(),
+                    hours == null ? "" : ", of the " + hours + " h allowed");
+        }
         if (s instanceof RankedStrategy ranked && ranked.ranking() != null && ranking == null) {
             Path file = scoring.out().resolve(RANKING_FILE);
             RankingFile.write(file, ranked.ranking());
