@@ -70,7 +70,7 @@ class TsvExportTest {
         }
         assertEquals(List.of("evaluation_id", "sample_index", "sample_id", "subject", "label", "label_index",
                 "predicted", "predicted_label", "true_class_probability", "correct"), read("outcomes.tsv").get(0));
-        assertEquals(List.of("run_id", "position", "evaluation_id", "cost", "reused"),
+        assertEquals(List.of("run_id", "position", "evaluation_id", "cost", "reused", "spent_after"),
                 read("run_evaluations.tsv").get(0));
         assertEquals(List.of("data_hash", "sample_index", "sample_id", "subject", "label", "label_index"),
                 read("datasets.tsv").get(0));
@@ -140,10 +140,11 @@ class TsvExportTest {
         for (Map<String, String> l : links) {
             if (l.get("run_id").equals("2")) {
                 second.add(l.get("position") + ":" + l.get("evaluation_id") + ":" + l.get("cost") + ":"
-                        + l.get("reused"));
+                        + l.get("reused") + ":" + l.get("spent_after"));
             }
         }
-        assertEquals(List.of("0:6:1.0:0", "1:1:1.0:1", "2:2:1.0:1", "3:7:0.5:0"), second);
+        assertEquals(List.of("0:6:1.0:0:1.0", "1:1:1.0:1:2.0", "2:2:1.0:1:3.0", "3:7:0.5:0:3.5"), second,
+                "spent_after is the run's budget spent once each link was made");
     }
 
     @Test
