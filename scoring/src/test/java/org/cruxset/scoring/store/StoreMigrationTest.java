@@ -31,15 +31,21 @@ import org.junit.jupiter.api.io.TempDir;
 /**
  * Migration of stores written by earlier versions, and the split of held-out subjects into parts. The fixture
  * {@code store-v1.sqlite} was written by Cruxset's version-1 code ({@code cruxset score} on the earlier bundled demo:
- * two runs, six evaluations of 60 samples each, zero and noise modes).
+ * two runs, six evaluations of 60 samples each, zero and noise modes); {@code store-v2.sqlite} by the version-2 code
+ * ({@code cruxset score} on today's demo: a run with a search and a confirmation part, and one with {@code --confirm 0};
+ * eight evaluations).
  */
 class StoreMigrationTest {
     @TempDir
     Path dir;
 
     private Path v1Copy() throws IOException {
+        return copy("store-v1.sqlite");
+    }
+
+    private Path copy(String fixture) throws IOException {
         Path db = dir.resolve("results.sqlite");
-        try (InputStream in = StoreMigrationTest.class.getResourceAsStream("store-v1.sqlite")) {
+        try (InputStream in = StoreMigrationTest.class.getResourceAsStream(fixture)) {
             Files.copy(in, db);
         }
         return db;
@@ -121,6 +127,44 @@ class StoreMigrationTest {
             assertTrue(resumed.resumed());
             assertEquals(3.0, resumed.spent(), 0.0);
             assertEquals(3, resumed.count());
+        }
+    }
+
+    @Test
+    void aVersionTwoStoreIsMigratedKeepingEvaluationsChargesAndSplits() throws Exception {
+        Path db = copy("store-v2.sqlite");
+        List<String> evaluations;
+        List<String> charges;
+        List<String> splits;
+        List<String> subjects;
+        List<String> runs;
+        try (Connection c = DriverManager.getConnection("jdbc:sqlite:" + db)) {
+            assertEquals(2, version(c), "the fixture is a version-2 store");
+            evaluations = rows(c, "evaluations", "id", EVALUATION_COLUMNS);
+            charges = rows(c, "run_evaluations", "run_id, position", "run_id", "evaluation_id", "cost", "reused", "position");
+            splits = rows(c, "part_splits", "id", "id", "split_seed", "confirm_fraction", "search_hash", "confirm_hash");
+            subjects = rows(c, "part_subjects", "split_id, subject", "split_id", "subject", "part");
+            runs = rows(c, "runs", "id", "id", "run_key", "split_id", "data_hash");
+        }
+        assertEquals(8, evaluations.size());
+        try (ResultsStore store = ResultsStore.open(db)) {
+            PartSplit first = store.splitOfRun(1).orElseThrow();
+            assertEquals(0.5, first.confirmFraction(), 0.0);
+            assertEquals(18, first.confirmationSubjects().size());
+            assertTrue(store.splitOfRun(2).orElseThrow().confirmationSubjects().isEmpty(), "--confirm 0");
+        }
+        try (Connection c = DriverManager.getConnection("jdbc:sqlite:" + db)) {
+            assertEquals(ResultsStore.SCHEMA_VERSION, version(c));
+            assertEquals(evaluations, rows(c, "evaluations", "id", EVALUATION_COLUMNS));
+            assertEquals(charges, rows(c, "run_evaluations", "run_id, position", "run_id", "evaluation_id", "cost",
+                    "reused", "position"));
+            assertEquals(splits, rows(c, "part_splits", "id", "id", "split_seed", "confirm_fraction", "search_hash",
+                    "confirm_hash"));
+            assertEquals(subjects, rows(c, "part_subjects", "split_id, subject", "split_id", "subject", "part"));
+            assertEquals(runs, rows(c, "runs", "id", "id", "run_key", "split_id", "data_hash"));
+            assertEquals(List.of("0|"), rows(c, "(SELECT count(*) AS n FROM run_evaluations WHERE spent_after IS NOT NULL)",
+                    "n", "n"), "links made before version 3 have no spent_after");
+            assertEquals(List.of("0|"), rows(c, "(SELECT count(*) AS n FROM searches)", "n", "n"));
         }
     }
 
