@@ -44,6 +44,7 @@ public final class SearchContext {
     private final Map<RegionSet, Long> certified = new HashMap<>();
     private final List<SearchRecords.TraceEntry> pendingTrace = new ArrayList<>();
     private double charged;
+    private int maxCorrect = Integer.MIN_VALUE;
     private double chargedAtBest = Double.NaN;
     private int tracePosition;
     private long lastSaveNanos = System.nanoTime();
@@ -84,6 +85,28 @@ public final class SearchContext {
     /** The score of the intact decoder on the search part. */
     public SetScore intact() {
         return intact;
+    }
+
+    /**
+     * The most correct samples a set may have on the search part and still be critical under the criterion (−1 when
+     * none qualifies); the graded distance from criticality of a set is its correct samples above this.
+     */
+    public int maxCorrectWhenCritical() {
+        if (maxCorrect == Integer.MIN_VALUE) {
+            int n = intact.n();
+            int best = -1;
+            for (int k = 0; k <= n; k++) {
+                double[] w = org.cruxset.scoring.stats.Binomial.wilson(k, n, org.cruxset.scoring.stats.Binomial.Z95);
+                SetScore s = new SetScore(n, k, (double) k / n, (double) k / n, (double) k / n, new double[0],
+                        intact.chance(), w[0], w[1],
+                        org.cruxset.scoring.stats.Binomial.pValueAtLeast(k, n, intact.chance()));
+                if (criterion.critical(s, intact)) {
+                    best = k;
+                }
+            }
+            maxCorrect = best;
+        }
+        return maxCorrect;
     }
 
     /** Whether a score on the search part is critical. */

@@ -19,6 +19,7 @@ import org.cruxset.scoring.eval.SetScore;
 import org.cruxset.scoring.lesion.RegionSet;
 import org.cruxset.search.bench.PlantedProblem;
 import org.cruxset.search.strategy.ExhaustiveStrategy;
+import org.cruxset.search.strategy.GeneticStrategy;
 import org.cruxset.search.strategy.GrowStrategy;
 import org.cruxset.search.strategy.PruneStrategy;
 import org.cruxset.search.strategy.RandomStrategy;
@@ -160,6 +161,18 @@ class BruteForceTest {
                     assertTrue(irreducible(x.set()), strategy.name() + ": certified " + x.set()
                             + " is irreducible by brute force");
                 }
+            }
+        }
+    }
+
+    @Test
+    void geneticFindsTheProvenMinimum(@TempDir Path dir) {
+        try (ScoringSession s = Planted.session(problem, Double.POSITIVE_INFINITY, dir, "genetic")) {
+            SearchRun.Result r = Planted.run(s, new GeneticStrategy(GeneticStrategy.Settings.defaults(), null), 1, true);
+            assertEquals(minimum, r.bestSize());
+            for (SearchRun.Reported x : r.reported()) {
+                assertTrue(minimumSets.contains(x.set()), x.set() + " is a minimum set by brute force");
+                assertTrue(x.certificate() != null && irreducible(x.set()));
             }
         }
     }

@@ -81,10 +81,28 @@ class SearchCommandTest {
                 + again.out());
         Cli.Run bad = Cli.run(args(out, "--strategy", "annealing").toArray(String[]::new));
         assertEquals(2, bad.exit(), bad.err());
-        assertTrue(bad.err().contains("--strategy must be grow, ranked, prune, exhaustive or random"), bad.err());
+        assertTrue(bad.err().contains("--strategy must be grow, ranked, prune, exhaustive, random or genetic"), bad.err());
         Cli.Run budget = Cli.run(args(out, "--budget", "0").toArray(String[]::new));
         assertEquals(2, budget.exit(), budget.err());
         assertTrue(budget.err().contains("--budget must be at least 1"), budget.err());
+    }
+
+    @Test
+    void geneticTakesItsSettingsFromAYamlConfigAndFindsTheTruthsSize(@TempDir Path out) throws Exception {
+        Path cfg = out.resolve("search.yaml");
+        Files.writeString(cfg, "genetic:\n  population: 40\n  patience: 30\n");
+        Cli.Run r = Cli.run(args(out.resolve("run"), "--strategy", "genetic", "--config", cfg.toString(), "--budget",
+                "4000", "--seed", "2").toArray(String[]::new)).requireSuccess();
+        assertTrue(r.out().contains("population=40") && r.out().contains("patience=30"), r.out());
+        int truth = TruthFile.decoderMinimumSets(DemoData.TRUTH).get(0).size();
+        int best = bestSize(r.out());
+        assertTrue(best > 0 && best <= truth, "best " + best + ", truth " + truth + ":\n" + r.out());
+        assertTrue(r.out().contains("Front hypervolume"), r.out());
+        Files.writeString(cfg, "genetic:\n  populace: 40\n");
+        Cli.Run bad = Cli.run(args(out.resolve("bad"), "--strategy", "genetic", "--config", cfg.toString())
+                .toArray(String[]::new));
+        assertEquals(2, bad.exit(), bad.err());
+        assertTrue(bad.err().contains(cfg.toString()) && bad.err().contains("populace"), bad.err());
     }
 
     @Test

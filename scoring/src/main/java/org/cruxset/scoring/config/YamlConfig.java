@@ -31,6 +31,55 @@ public final class YamlConfig {
         }
     }
 
+    /**
+     * Reads {@code file} as a {@code type} whose fields default to those of {@code defaults}: the file need only name
+     * what it changes (nested objects are merged field by field); unknown fields are still errors naming the field.
+     */
+    public static <T> T readOverDefaults(Path file, T defaults, Class<T> type) {
+        if (!Files.isRegularFile(file)) {
+            throw new ConfigException(file + ": no such settings file", null);
+        }
+        com.fasterxml.jackson.databind.JsonNode given;
+        try {
+            given = YAML.readTree(file.toFile());
+        } catch (JsonProcessingException e) {
+            JsonLocation loc = e.getLocation();
+            String where = loc == null ? "" : ":" + loc.getLineNr() + ":" + loc.getColumnNr();
+            throw new ConfigException(file + where + ": not valid YAML: " + e.getOriginalMessage(), e);
+        } catch (IOException e) {
+            throw new UncheckedIOException(file + ": cannot read: " + e.getMessage(), e);
+        }
+        com.fasterxml.jackson.databind.JsonNode merged = YAML.valueToTree(defaults);
+        if (given != null && !given.isMissingNode() && !given.isNull()) {
+            if (!given.isObject()) {
+                throw new ConfigException(file + ": expected a mapping of settings at the top level", null);
+            }
+            merge((com.fasterxml.jackson.databind.node.ObjectNode) merged, given);
+        }
+        try {
+            return YAML.treeToValue(merged, type);
+        } catch (JsonMappingException e) {
+            String path = fieldPath(e);
+            Throwable root = e instanceof ValueInstantiationException && e.getCause() != null ? e.getCause() : e;
+            String msg = root == e ? e.getOriginalMessage() : root.getMessage();
+            throw new ConfigException(file + (path.isEmpty() ? "" : ": field '" + path + "'") + ": " + msg, e);
+        } catch (JsonProcessingException e) {
+            throw new ConfigException(file + ": " + e.getOriginalMessage(), e);
+        }
+    }
+
+    private static void merge(com.fasterxml.jackson.databind.node.ObjectNode into,
+                              com.fasterxml.jackson.databind.JsonNode from) {
+        from.fields().forEachRemaining(e -> {
+            com.fasterxml.jackson.databind.JsonNode there = into.get(e.getKey());
+            if (there != null && there.isObject() && e.getValue().isObject()) {
+                merge((com.fasterxml.jackson.databind.node.ObjectNode) there, e.getValue());
+            } else {
+                into.set(e.getKey(), e.getValue());
+            }
+        });
+    }
+
     /** Reads {@code file} as a {@code type}. */
     public static <T> T read(Path file, Class<T> type) {
         if (!Files.isRegularFile(file)) {

@@ -19,6 +19,7 @@ import org.cruxset.scoring.eval.SetScore;
 import org.cruxset.scoring.lesion.LesionSpec;
 import org.cruxset.scoring.lesion.RegionSet;
 import org.cruxset.search.Front;
+import org.cruxset.search.Hypervolume;
 import org.cruxset.search.SearchContext;
 import org.cruxset.search.SearchRun;
 import org.cruxset.search.Strategy;
@@ -65,7 +66,7 @@ public final class SearchCommand implements Callable<Integer> {
     ScoringOptions scoring;
 
     @Option(names = "--strategy", defaultValue = "grow", paramLabel = "NAME",
-            description = "grow, ranked, prune, exhaustive or random. Default: ${DEFAULT-VALUE}.")
+            description = "grow, ranked, prune, exhaustive, random or genetic. Default: ${DEFAULT-VALUE}.")
     String strategy;
 
     @Option(names = "--budget", paramLabel = "N",
@@ -103,6 +104,10 @@ public final class SearchCommand implements Callable<Integer> {
     @Option(names = "--lazy", description = "grow: re-score only the candidate with the largest stale gain (a heuristic: "
             + "exact only under diminishing returns, which synergy breaks).")
     boolean lazy;
+
+    @Option(names = "--config", paramLabel = "YAML", description = "Strategy settings to change from the defaults, e.g. "
+            + "genetic: {population: 60}; the settings used are recorded with the run.")
+    Path config;
 
     @Option(names = "--no-prune", description = "Do not prune the best critical sets found (they then carry no "
             + "irreducibility certificate).")
@@ -157,8 +162,10 @@ public final class SearchCommand implements Callable<Integer> {
             case "prune" -> new PruneStrategy(from == null ? null : session.toInputs(LesionSpec.parse(from, atlas)));
             case "exhaustive" -> exhaustive(session, given);
             case "random" -> new RandomStrategy();
+            case "genetic" -> new org.cruxset.search.strategy.GeneticStrategy(
+                    org.cruxset.search.SearchConfig.read(config).genetic(), given);
             default -> throw new CommandLine.ParameterException(spec.commandLine(), "--strategy must be grow, ranked, "
-                    + "prune, exhaustive or random, found '" + strategy + "'");
+                    + "prune, exhaustive, random or genetic, found '" + strategy + "'");
         };
     }
 
@@ -299,6 +306,10 @@ public final class SearchCommand implements Callable<Integer> {
                 e.size() <= 8 ? (e.size() == 0 ? "(intact)" : names(session, e.set())) : e.size() + " regions"});
         }
         Table.print(pw, rows);
+        double intact = session.intact().score().accuracy();
+        pw.printf("Front hypervolume, objectives (size / %d, accuracy) both minimised, reference point (1, %.3f = intact "
+                        + "accuracy): %.4f of at most %.4f.%n", session.inputs().batch().regions(), intact,
+                Hypervolume.ofFront(r.front(), session.inputs().batch().regions(), intact, SetScore::accuracy), intact);
         pw.printf("%nResults: %s (cruxset export --out %s writes TSV views, including the anytime trace)%n",
                 scoring.out().resolve(ScoringSession.STORE_FILE), scoring.out());
     }

@@ -1,0 +1,277 @@
+package org.cruxset.search.strategy;
+
+import io.jenetics.BitChromosome;
+import io.jenetics.BitGene;
+import io.jenetics.Chromosome;
+import io.jenetics.Genotype;
+import io.jenetics.Mutator;
+import io.jenetics.MutatorResult;
+import io.jenetics.Phenotype;
+import io.jenetics.UniformCrossover;
+import io.jenetics.engine.Engine;
+import io.jenetics.engine.Evaluator;
+import io.jenetics.engine.EvolutionResult;
+import io.jenetics.engine.EvolutionStart;
+import io.jenetics.ext.moea.Vec;
+import io.jenetics.util.ISeq;
+import io.jenetics.util.RandomRegistry;
+import java.util.ArrayList;
+import java.util.BitSet;
+import java.util.Iterator;
+import java.util.List;
+import java.util.SplittableRandom;
+import java.util.random.RandomGenerator;
+import org.cruxset.scoring.eval.LesionScorer;
+import org.cruxset.scoring.eval.SetScore;
+import org.cruxset.scoring.lesion.RegionSet;
+import org.cruxset.search.SearchContext;
+import org.cruxset.search.StopSearch;
+import org.cruxset.search.Strategy;
+import org.cruxset.search.rank.Ranking;
+import org.cruxset.search.rank.SingleLesion;
+
+/**
+ * Multi-objective genetic search (NSGA-II, {@link Nsga2}) over lesion sets as bit strings. The two objectives, both
+ * minimised: the set's size over N, and a <em>graded</em> distance from criticality, the correct samples above the most
+ * a critical set may have (over the sample count), plus a small share of the mean true-class probability so that
+ * sets at equal distance still differ. Critical sets all score 0 on the distance, so a critical set dominates every
+ * larger one and the population gathers at the boundary of criticality rather than across all sizes (the criterion
+ * as a graded objective rather than a constraint: a constraint gives non-critical sets nothing to climb).
+ *
+ * <p>The first population is half nested prefixes of a ranking (single lesions on the search part, or one given) of
+ * sizes spread from 1 to {@code maxInitialSize}, half random sets of such sizes. Offspring come from uniform crossover
+ * and a sparsity-aware mutation that removes {@code removals} regions and adds {@code additions} on average, whatever
+ * the set's size (a plain bit-flip rate would add about N × rate regions and swamp small sets). Each generation's new
+ * sets are scored as one batch. A population that goes {@code patience} generations without a smaller critical set is
+ * restarted from a new first population (at most {@code restarts} times: a population caught in a trap rarely
+ * leaves it, a fresh one often avoids it); the search stops after {@code generations} generations in all, or when the
+ * budget or time is spent.
+ */
+public final class GeneticStrategy implements Strategy {
+    /** Settings, each with a default chosen on the search benchmark. */
+    public record Settings(int population, double crossover, double additions, double removals, int maxInitialSize,
+                           int generations, int patience, int restarts, String grading) {
+        public Settings {
+            if (!List.of("excess", "probability", "mixed").contains(grading)) {
+                throw new IllegalArgumentException("grading must be excess, probability or mixed, found '" + grading + "'");
+            }
+        }
+
+        /** The defaults. */
+        public static Settings defaults() {
+            return new Settings(100, 0.5, 1.0, 1.5, 48, 2000, 150, 0, "mixed");
+        }
+    }
+
+    private final Settings settings;
+    private final Ranking given;
+
+    /** A genetic search with {@code settings}, seeded from {@code ranking} (single lesions when null). */
+    public GeneticStrategy(Settings settings, Ranking ranking) {
+        this.settings = settings;
+        this.given = ranking;
+    }
+
+    @Override
+    public String name() {
+        return "genetic";
+    }
+
+    @Override
+    public String settings() {
+        return "population=" + settings.population() + ", crossover=" + settings.crossover() + ", additions="
+                + settings.additions() + ", removals=" + settings.removals() + ", maxInitialSize="
+                + settings.maxInitialSize() + ", generations=" + settings.generations() + ", patience="
+                + settings.patience() + ", restarts=" + settings.restarts() + ", grading=" + settings.grading()
+                + ", ranking="
+                + (given == null ? SingleLesion.SOURCE : "given");
+    }
+
+    @Override
+    public void run(SearchContext ctx) {
+        int n = ctx.regions();
+        List<Integer> order = rankedPositions(ctx);
+        int limit = ctx.maxCorrectWhenCritical();
+        Evaluator<BitGene, Vec<double[]>> evaluator = population -> {
+            List<Phenotype<BitGene, Vec<double[]>>> all = new ArrayList<>(population.asList());
+            List<RegionSet> batch = new ArrayList<>();
+            List<Integer> at = new ArrayList<>();
+            for (int i = 0; i < all.size(); i++) {
+                if (!all.get(i).isEvaluated()) {
+                    batch.add(toSet(all.get(i).genotype(), n));
+                    at.add(i);
+                }
+            }
+            List<LesionScorer.Scored> scored = ctx.score(batch);
+            for (int j = 0; j < at.size(); j++) {
+                SetScore s = scored.get(j).score();
+                int size = batch.get(j).size();
+                all.set(at.get(j), all.get(at.get(j)).withFitness(Nsga2.minimise((double) size / n,
+                        grade(ctx, s, size, limit))));
+            }
+            return ISeq.of(all);
+        };
+        SplittableRandom rng = ctx.random("genetic");
+        Engine<BitGene, Vec<double[]>> engine = Nsga2.builder(evaluator, Genotype.of(BitChromosome.of(n, 0.05)),
+                settings.population(), new UniformCrossover<>(settings.crossover(), 0.5),
+                new SparseMutator(settings.additions(), settings.removals())).build();
+        int generations = 0;
+        for (int restart = 0; restart <= settings.restarts() && generations < settings.generations(); restart++) {
+            ISeq<Phenotype<BitGene, Vec<double[]>>> first = initial(n, order, rng, restart);
+            int left = settings.generations() - generations;
+            generations += RandomRegistry.with(rng.split(), r -> evolve(ctx, engine, first, left));
+        }
+    }
+
+    /**
+     * Runs one population until {@code patience} generations pass without a smaller critical set in it; returns the
+     * generations run.
+     */
+    private int evolve(SearchContext ctx, Engine<BitGene, Vec<double[]>> engine,
+                       ISeq<Phenotype<BitGene, Vec<double[]>>> first, int maxGenerations) {
+        Iterator<EvolutionResult<BitGene, Vec<double[]>>> it = engine.stream(() -> EvolutionStart.of(first, 1))
+                .iterator();
+        int best = Integer.MAX_VALUE;
+        int lastImprovement = 0;
+        int g = 0;
+        int n = ctx.regions();
+        while (g < maxGenerations && it.hasNext()) {
+            EvolutionResult<BitGene, Vec<double[]>> result = next(it);
+            g++;
+            int b = -1;
+            for (Phenotype<BitGene, Vec<double[]>> p : result.population()) {
+                double[] o = Nsga2.objectives(p.fitness());
+                int size = (int) Math.round(o[0] * n);
+                if (o[1] == 0 && size > 0 && (b < 0 || size < b)) {
+                    b = size;
+                }
+            }
+            if (b >= 0 && b < best) {
+                best = b;
+                lastImprovement = g;
+            }
+            if (g - lastImprovement >= settings.patience()) {
+                break;
+            }
+        }
+        return g;
+    }
+
+    /** The graded distance from criticality of a score (0 for a critical set). */
+    private double grade(SearchContext ctx, SetScore s, int size, int limit) {
+        if (size > 0 && ctx.critical(s)) {
+            return 0;
+        }
+        double excess = Math.max(0, s.correct() - limit) / (double) s.n();
+        double p = s.meanTrueClassProbability();
+        return switch (settings.grading()) {
+            case "excess" -> excess + 1e-3 * p;
+            case "probability" -> p + 1e-3;
+            default -> 0.5 * excess + 0.5 * p + 1e-3;
+        };
+    }
+
+    /** Advances the stream, passing a budget or time stop through whatever Jenetics wrapped it in. */
+    private static EvolutionResult<BitGene, Vec<double[]>> next(Iterator<EvolutionResult<BitGene, Vec<double[]>>> it) {
+        try {
+            return it.next();
+        } catch (StopSearch s) {
+            throw s;
+        } catch (RuntimeException e) {
+            for (Throwable c = e.getCause(); c != null; c = c.getCause()) {
+                if (c instanceof StopSearch s) {
+                    throw s;
+                }
+            }
+            throw e;
+        }
+    }
+
+    private List<Integer> rankedPositions(SearchContext ctx) {
+        Ranking r = given == null ? SingleLesion.rank(ctx) : given;
+        List<Integer> out = new ArrayList<>();
+        RegionSet seen = ctx.empty();
+        for (RegionSet atlasPrefix : r.prefixes(ctx.session().cohort().atlas())) {
+            RegionSet in = ctx.session().toInputs(atlasPrefix);
+            for (int p : in.positions()) {
+                if (!seen.contains(p)) {
+                    out.add(p);
+                    seen = seen.with(p);
+                }
+            }
+        }
+        return out;
+    }
+
+    /**
+     * A first population: even members are ranking prefixes (from restart 1 on, each region of a prefix kept with
+     * probability 0.8, so restarts start elsewhere), odd members random sets; sizes spread from 1 to
+     * {@code maxInitialSize}.
+     */
+    private ISeq<Phenotype<BitGene, Vec<double[]>>> initial(int n, List<Integer> order, SplittableRandom rng,
+                                                            int restart) {
+        List<Phenotype<BitGene, Vec<double[]>>> pop = new ArrayList<>();
+        int max = Math.max(1, Math.min(settings.maxInitialSize(), n - 1));
+        for (int i = 0; i < settings.population(); i++) {
+            int size = 1 + (int) Math.round((max - 1) * Math.pow((double) i / Math.max(1, settings.population() - 1), 2));
+            BitSet bits = new BitSet(n);
+            if (i % 2 == 0) {
+                for (int j = 0; j < Math.min(size, order.size()); j++) {
+                    if (restart == 0 || rng.nextDouble() < 0.8) {
+                        bits.set(order.get(j));
+                    }
+                }
+            } else {
+                while (bits.cardinality() < size) {
+                    bits.set(rng.nextInt(n));
+                }
+            }
+            pop.add(Phenotype.of(Genotype.of(BitChromosome.of(bits, n)), 1));
+        }
+        return ISeq.of(pop);
+    }
+
+    static RegionSet toSet(Genotype<BitGene> g, int n) {
+        BitChromosome c = g.chromosome().as(BitChromosome.class);
+        RegionSet s = RegionSet.empty(n);
+        for (int i = 0; i < n; i++) {
+            if (c.get(i).bit()) {
+                s = s.with(i);
+            }
+        }
+        return s;
+    }
+
+    /** Removes {@code removals} and adds {@code additions} regions on average, whatever the set's size. */
+    static final class SparseMutator extends Mutator<BitGene, Vec<double[]>> {
+        private final double additions;
+        private final double removals;
+
+        SparseMutator(double additions, double removals) {
+            super(1.0);
+            this.additions = additions;
+            this.removals = removals;
+        }
+
+        @Override
+        protected MutatorResult<Chromosome<BitGene>> mutate(Chromosome<BitGene> chromosome, double p,
+                                                            RandomGenerator random) {
+            BitChromosome c = chromosome.as(BitChromosome.class);
+            int n = c.length();
+            int k = c.bitCount();
+            double pRemove = k == 0 ? 0 : Math.min(1, removals / k);
+            double pAdd = k == n ? 0 : Math.min(1, additions / (n - k));
+            BitSet bits = new BitSet(n);
+            int changed = 0;
+            for (int i = 0; i < n; i++) {
+                boolean on = c.get(i).bit();
+                boolean flip = random.nextDouble() < (on ? pRemove : pAdd);
+                if (on != flip) {
+                    bits.set(i);
+                }
+                changed += flip ? 1 : 0;
+            }
+            return new MutatorResult<>(BitChromosome.of(bits, n), changed);
+        }
+    }
+}
