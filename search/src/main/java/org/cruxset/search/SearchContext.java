@@ -206,16 +206,10 @@ public final class SearchContext {
     }
 
     private void account(List<LesionScorer.Scored> scored) {
-        if (records != null && !scored.isEmpty()) {
-            List<EvaluationKey> keys = new ArrayList<>(scored.size());
-            for (LesionScorer.Scored s : scored) {
-                keys.add(scorer.key(s.set()));
+        for (LesionScorer.Scored s : scored) {
+            if (!Double.isNaN(s.charged())) {
+                charged = Math.max(charged, s.charged());
             }
-            for (double spent : records.spentWhenPaid(keys).values()) {
-                charged = Math.max(charged, spent);
-            }
-        } else {
-            charged = Math.max(charged, scorer.budget().spent());
         }
         Map<Integer, LesionScorer.Scored> improved = new HashMap<>();
         int bestBefore = front.bestCriticalSize();

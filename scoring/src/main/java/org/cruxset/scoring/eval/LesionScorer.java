@@ -40,8 +40,11 @@ public final class LesionScorer {
         REPLAYED
     }
 
-    /** A scored set. */
-    public record Scored(RegionSet set, SetScore score, Outcomes outcomes, Source source) {
+    /**
+     * A scored set: its score and outcomes, where the score came from, and {@code charged}, the run's budget spent
+     * once it paid for this set (the same after a resume; counted in memory when there is no store).
+     */
+    public record Scored(RegionSet set, SetScore score, Outcomes outcomes, Source source, double charged) {
     }
 
     private final Decoder.Bound bound;
@@ -208,8 +211,13 @@ public final class LesionScorer {
             for (RegionSet s : unknown) {
                 byKey.put(key(s), s);
             }
-            Map<EvaluationKey, ResultsStore.Stored> found = store == null ? Map.of() : store.lookup(byKey.keySet());
-            Set<EvaluationKey> paid = store == null ? Set.of() : store.paidAmong(run, found.keySet());
+            Map<EvaluationKey, ResultsStore.Stored> found = store == null ? Map.of() : store.lookup(run, byKey.keySet());
+            Set<EvaluationKey> paid = new HashSet<>();
+            for (ResultsStore.Stored st : found.values()) {
+                if (st.paid()) {
+                    paid.add(st.key());
+                }
+            }
             Set<RegionSet> unpaid = new HashSet<>();
             for (Map.Entry<EvaluationKey, RegionSet> e : byKey.entrySet()) {
                 if (!paid.contains(e.getKey())) {
@@ -235,14 +243,17 @@ public final class LesionScorer {
                     continue;
                 }
                 Source src = paid.contains(e.getKey()) ? Source.REPLAYED : Source.STORED;
+                double charged;
                 if (src == Source.STORED) {
                     reusedKeys.add(e.getKey());
                     budget.charge(costPerSet);
+                    charged = budget.spent();
                     stored++;
                 } else {
+                    charged = st.spentWhenPaid();
                     replayed++;
                 }
-                Scored sc = new Scored(e.getValue(), st.score(), st.outcomes(), src);
+                Scored sc = new Scored(e.getValue(), st.score(), st.outcomes(), src, charged);
                 memo.put(e.getValue(), sc);
                 result.put(e.getValue(), sc);
             }
@@ -278,7 +289,8 @@ public final class LesionScorer {
     }
 
     private Scored replay(Scored m) {
-        return m.source() == Source.REPLAYED ? m : new Scored(m.set(), m.score(), m.outcomes(), Source.REPLAYED);
+        return m.source() == Source.REPLAYED ? m : new Scored(m.set(), m.score(), m.outcomes(), Source.REPLAYED,
+                m.charged());
     }
 
     private void decodeChunk(List<RegionSet> part, Map<RegionSet, Scored> result) {
@@ -295,10 +307,10 @@ public final class LesionScorer {
             RegionSet s = part.get(i);
             Outcomes o = Outcomes.of(probs[i], labels);
             SetScore sc = SetScore.of(o, labels, inputs.classLabels().size());
-            Scored scored = new Scored(s, sc, o, Source.DECODED);
+            budget.charge(costPerSet);
+            Scored scored = new Scored(s, sc, o, Source.DECODED, budget.spent());
             memo.put(s, scored);
             result.put(s, scored);
-            budget.charge(costPerSet);
             decoded++;
             if (store != null) {
                 fresh.add(new ResultsStore.NewEvaluation(key(s), names(s), sc, o, wall));

@@ -530,51 +530,13 @@ public final class ResultsStore implements AutoCloseable {
         return new PartSplit(seed, fraction, search, confirm, searchSubjects, confirmSubjects);
     }
 
-    /**
-     * The keys among {@code keys} that {@code run} has already paid for, found with batched queries (the store, not
-     * memory, knows what a run paid, so a run's memory does not grow with the sets it scores).
-     */
+    /** The keys among {@code keys} that {@code run} has already paid for (see {@link #lookup(Run, Collection)}). */
     public Set<EvaluationKey> paidAmong(Run run, Collection<EvaluationKey> keys) {
-        return spentWhenPaid(run, keys).keySet();
-    }
-
-    /**
-     * The keys among {@code keys} that {@code run} has paid for, each with the run's budget spent once it paid for it
-     * ({@code spent_after}; for links made before schema version 3, their position + 1).
-     */
-    public Map<EvaluationKey, Double> spentWhenPaid(Run run, Collection<EvaluationKey> keys) {
         Objects.requireNonNull(run, "run");
-        Map<EvaluationKey, Double> out = new HashMap<>();
-        if (keys.isEmpty()) {
-            return out;
-        }
-        synchronized (lock) {
-            requireOpen();
-            try {
-                forEachChunk(keys, (group, chunk) -> {
-                    Map<String, EvaluationKey> byHex = new HashMap<>();
-                    for (EvaluationKey k : chunk) {
-                        byHex.put(k.setHex(), k);
-                    }
-                    String sql = "SELECT e.set_hex, coalesce(re.spent_after, re.position + 1) FROM evaluations e"
-                            + " JOIN run_evaluations re ON re.evaluation_id = e.id"
-                            + " AND re.run_id = ? WHERE e.model_hash = ? AND e.data_hash = ? AND e.preprocessing = ?"
-                            + " AND e.lesion_mode = ? AND e.mode_seed = ? AND e.set_hex IN (" + placeholders(chunk.size()) + ")";
-                    try (PreparedStatement ps = connection.prepareStatement(sql)) {
-                        ps.setLong(1, run.id);
-                        int i = bindGroup(ps, group, 1);
-                        for (EvaluationKey k : chunk) {
-                            ps.setString(++i, k.setHex());
-                        }
-                        try (ResultSet r = ps.executeQuery()) {
-                            while (r.next()) {
-                                out.put(byHex.get(r.getString(1)), r.getDouble(2));
-                            }
-                        }
-                    }
-                });
-            } catch (SQLException e) {
-                throw new StoreException(file, "cannot look up what run " + run.id + " paid: " + e.getMessage(), e);
+        Set<EvaluationKey> out = new HashSet<>();
+        for (Stored st : lookup(run, keys).values()) {
+            if (st.paid()) {
+                out.add(st.key());
             }
         }
         return out;
@@ -582,6 +544,15 @@ public final class ResultsStore implements AutoCloseable {
 
     /** The stored evaluations among {@code keys} (absent keys are left out), found with batched queries. */
     public Map<EvaluationKey, Stored> lookup(Collection<EvaluationKey> keys) {
+        return lookup(null, keys);
+    }
+
+    /**
+     * The stored evaluations among {@code keys}, each with {@code run}'s budget spent once it paid for it
+     * ({@link Stored#spentWhenPaid()}; NaN when {@code run} is null or has not paid for it), in one batched query
+     * per chunk: what the scorer needs to tell a replay from a reuse.
+     */
+    public Map<EvaluationKey, Stored> lookup(Run run, Collection<EvaluationKey> keys) {
         Map<EvaluationKey, Stored> out = new HashMap<>();
         if (keys.isEmpty()) {
             return out;
@@ -594,10 +565,13 @@ public final class ResultsStore implements AutoCloseable {
                     for (EvaluationKey k : chunk) {
                         byHex.put(k.setHex(), k);
                     }
-                    String sql = "SELECT " + EVALUATION_COLUMNS + " FROM evaluations WHERE " + KEY_WHERE
-                            + " AND set_hex IN (" + placeholders(chunk.size()) + ")";
+                    String sql = "SELECT " + EVALUATION_COLUMNS + ", coalesce(re.spent_after, re.position + 1)"
+                            + " FROM evaluations LEFT JOIN run_evaluations re ON re.evaluation_id = evaluations.id"
+                            + " AND re.run_id = ? WHERE " + KEY_WHERE + " AND set_hex IN ("
+                            + placeholders(chunk.size()) + ")";
                     try (PreparedStatement ps = connection.prepareStatement(sql)) {
-                        int i = bindGroup(ps, group);
+                        ps.setLong(1, run == null ? -1 : run.id);
+                        int i = bindGroup(ps, group, 1);
                         for (EvaluationKey k : chunk) {
                             ps.setString(++i, k.setHex());
                         }
@@ -609,7 +583,7 @@ public final class ResultsStore implements AutoCloseable {
                                             + r.getString(7) + " over " + r.getInt(8) + " regions, but it was looked "
                                             + "up over " + k.set().universe() + " regions");
                                 }
-                                out.put(k, readStored(r, k));
+                                out.put(k, readStored(r, k, getReal(r, 22)));
                             }
                         }
                     }
@@ -815,14 +789,14 @@ public final class ResultsStore implements AutoCloseable {
         ps.setLong(24, runId);
     }
 
-    private Stored readStored(ResultSet r, EvaluationKey k) throws SQLException {
+    private Stored readStored(ResultSet r, EvaluationKey k, double spentWhenPaid) throws SQLException {
         long id = r.getLong(1);
         int n = r.getInt(9);
         SetScore score = new SetScore(n, r.getInt(10), getReal(r, 11), getReal(r, 12), getReal(r, 13),
                 parseJsonDoubles(r.getString(14), id), getReal(r, 15), getReal(r, 16), getReal(r, 17),
                 getReal(r, 18));
         Outcomes outcomes = decodeOutcomes(file, id, n, r.getBytes(20), r.getBytes(21));
-        return new Stored(id, k, score, outcomes, r.getDouble(19));
+        return new Stored(id, k, score, outcomes, r.getDouble(19), spentWhenPaid);
     }
 
     private static void setReal(PreparedStatement ps, int i, double v) throws SQLException {
@@ -1121,11 +1095,17 @@ public final class ResultsStore implements AutoCloseable {
     }
 
     /** A stored evaluation: its row id, key, scores, per-sample outcomes and the wall time it took. */
-    public record Stored(long id, EvaluationKey key, SetScore score, Outcomes outcomes, double wallSeconds) {
+    public record Stored(long id, EvaluationKey key, SetScore score, Outcomes outcomes, double wallSeconds,
+                         double spentWhenPaid) {
         public Stored {
             Objects.requireNonNull(key, "key");
             Objects.requireNonNull(score, "score");
             Objects.requireNonNull(outcomes, "outcomes");
+        }
+
+        /** Whether the run it was looked up for has paid for it. */
+        public boolean paid() {
+            return !Double.isNaN(spentWhenPaid);
         }
     }
 

@@ -8,7 +8,6 @@ import java.sql.Statement;
 import java.sql.Types;
 import java.time.Instant;
 import java.util.ArrayList;
-import java.util.Collection;
 import java.util.LinkedHashSet;
 import java.util.List;
 import java.util.Map;
@@ -280,11 +279,6 @@ public final class SearchRecords {
     /** The current state of the search (after {@link #begin}). */
     public SearchState state() {
         return store.inTransaction("read the search of run " + run.id(), this::state);
-    }
-
-    /** The run's budget spent once it paid for each of {@code keys} (keys it has not paid for are left out). */
-    public Map<EvaluationKey, Double> spentWhenPaid(Collection<EvaluationKey> keys) {
-        return store.spentWhenPaid(run, keys);
     }
 
     private long id(Map<EvaluationKey, Long> ids, EvaluationKey key) {
