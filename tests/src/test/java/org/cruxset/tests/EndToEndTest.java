@@ -118,13 +118,15 @@ class EndToEndTest {
         assertEquals(decoyLesion.correct(), ort.scores().get(1).correct());
     }
 
-    // Must show: on the CI cohort, grow+prune finds a critical set no larger than the smallest in the decoder's own
-    // truth on the search part, and says whether the confirmation part confirms it.
-    @Test
-    void growThenPruneMatchesTheDecodersOwnTruth() {
+    // Must show: on the CI cohort, grow+prune (and genetic) find a critical set no larger than the smallest in the
+    // decoder's own truth on the search part, and say whether the confirmation part confirms it.
+    @org.junit.jupiter.params.ParameterizedTest
+    @org.junit.jupiter.params.provider.ValueSource(strings = {"grow", "genetic"})
+    void searchMatchesTheDecodersOwnTruth(String strategy) {
         int truth = TruthFile.decoderMinimumSets(cohortDir.resolve(TruthFile.NAME)).get(0).size();
-        Cli.Run r = Cli.run("search", "--model", model.toString(), "--cohort", cohortDir.toString(), "--strategy", "grow",
-                "--budget", "2000", "--out", dir.resolve("search").toString(), "--threads", "2").requireSuccess();
+        Cli.Run r = Cli.run("search", "--model", model.toString(), "--cohort", cohortDir.toString(), "--strategy",
+                strategy, "--budget", "3000", "--out", dir.resolve("search-" + strategy).toString(), "--threads", "2")
+                .requireSuccess();
         int best = SearchCommandTest.bestSize(r.out());
         assertTrue(best > 0 && best <= truth, "best " + best + ", truth " + truth + ":\n" + r.out());
         String first = r.out().lines().filter(l -> l.startsWith("1  ")).findFirst().orElseThrow();
