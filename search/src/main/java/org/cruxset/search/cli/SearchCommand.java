@@ -297,10 +297,15 @@ public final class SearchCommand implements Callable<Integer> {
             }
         }
         pw.println();
-        pw.println("Front (best set found at each size):");
+        pw.println("Front (best set found at each size where no smaller set scored as low; every size is in the store):");
         List<String[]> rows = new ArrayList<>();
         rows.add(new String[] {"size", "accuracy", "p(true)", "critical", "set"});
+        double lowest = Double.POSITIVE_INFINITY;
         for (Front.Entry e : r.front()) {
+            if (!(e.score().accuracy() < lowest)) {
+                continue;
+            }
+            lowest = e.score().accuracy();
             rows.add(new String[] {Integer.toString(e.size()), String.format("%.3f", e.score().accuracy()),
                 String.format("%.3f", e.score().meanTrueClassProbability()), e.critical() ? "yes" : "no",
                 e.size() <= 8 ? (e.size() == 0 ? "(intact)" : names(session, e.set())) : e.size() + " regions"});
