@@ -63,7 +63,7 @@ class SearchCommandTest {
         assertTrue(first.contains("CRITICAL") && first.endsWith("irreducible"), first);
         assertTrue(first.matches(".*CRITICAL.*(CRITICAL|not confirmed).*"), "the confirmation verdict is shown: " + first);
         assertTrue(r.out().contains("Stopped: finished"), r.out());
-        assertTrue(r.out().contains("Front (best set found at each size)"), r.out());
+        assertTrue(r.out().contains("Front (best set found at each size where no smaller set scored as low"), r.out());
         Cli.Run export = Cli.run("export", "--out", out.toString()).requireSuccess();
         assertTrue(export.out().contains("Wrote TSV views"), export.out());
         assertTrue(Files.exists(out.resolve("export").resolve("search_trace.tsv")));
