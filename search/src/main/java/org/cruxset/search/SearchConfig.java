@@ -5,19 +5,22 @@ import java.nio.file.Path;
 import java.util.Objects;
 import org.cruxset.scoring.config.YamlConfig;
 import org.cruxset.search.strategy.GeneticStrategy;
+import org.cruxset.search.strategy.local.LocalSearch;
 
 /**
  * Strategy settings read from a YAML file ({@code cruxset search --config FILE}); a file names only what it changes,
- * e.g. {@code genetic: {population: 60, patience: 100}}. The settings used are recorded with the run.
+ * e.g. {@code genetic: {population: 60, patience: 100}} or {@code local: {acceptor: late, acceptorSize: 400}}. The settings used are recorded with the run.
  */
-public record SearchConfig(@JsonProperty("genetic") GeneticStrategy.Settings genetic) {
+public record SearchConfig(@JsonProperty("genetic") GeneticStrategy.Settings genetic,
+                           @JsonProperty("local") LocalSearch.Settings local) {
     public SearchConfig {
         Objects.requireNonNull(genetic, "genetic");
+        Objects.requireNonNull(local, "local");
     }
 
     /** The defaults, chosen by measurement on the search benchmark (see DEVELOPERS.md). */
     public static SearchConfig defaults() {
-        return new SearchConfig(GeneticStrategy.Settings.defaults());
+        return new SearchConfig(GeneticStrategy.Settings.defaults(), LocalSearch.Settings.defaults());
     }
 
     /** The defaults overridden by {@code file} (null: the defaults). */

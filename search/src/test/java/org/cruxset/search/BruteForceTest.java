@@ -20,6 +20,8 @@ import org.cruxset.scoring.lesion.RegionSet;
 import org.cruxset.search.bench.PlantedProblem;
 import org.cruxset.search.strategy.ExhaustiveStrategy;
 import org.cruxset.search.strategy.GeneticStrategy;
+import org.cruxset.search.strategy.LocalStrategy;
+import org.cruxset.search.strategy.local.LocalSearch;
 import org.cruxset.search.strategy.GrowStrategy;
 import org.cruxset.search.strategy.PruneStrategy;
 import org.cruxset.search.strategy.RandomStrategy;
@@ -173,6 +175,17 @@ class BruteForceTest {
             for (SearchRun.Reported x : r.reported()) {
                 assertTrue(minimumSets.contains(x.set()), x.set() + " is a minimum set by brute force");
                 assertTrue(x.certificate() != null && irreducible(x.set()));
+            }
+        }
+    }
+
+    @Test
+    void localFindsTheProvenMinimum(@TempDir Path dir) {
+        try (ScoringSession s = Planted.session(problem, Double.POSITIVE_INFINITY, dir, "local")) {
+            SearchRun.Result r = Planted.run(s, new LocalStrategy(LocalSearch.Settings.defaults(), null), 1, true);
+            assertEquals(minimum, r.bestSize());
+            for (SearchRun.Reported x : r.reported()) {
+                assertTrue(minimumSets.contains(x.set()), x.set() + " is a minimum set by brute force");
             }
         }
     }

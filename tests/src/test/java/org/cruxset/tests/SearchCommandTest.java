@@ -81,7 +81,7 @@ class SearchCommandTest {
                 + again.out());
         Cli.Run bad = Cli.run(args(out, "--strategy", "annealing").toArray(String[]::new));
         assertEquals(2, bad.exit(), bad.err());
-        assertTrue(bad.err().contains("--strategy must be grow, ranked, prune, exhaustive, random or genetic"), bad.err());
+        assertTrue(bad.err().contains("--strategy must be grow, ranked, prune, exhaustive, random, genetic or local"), bad.err());
         Cli.Run budget = Cli.run(args(out, "--budget", "0").toArray(String[]::new));
         assertEquals(2, budget.exit(), budget.err());
         assertTrue(budget.err().contains("--budget must be at least 1"), budget.err());
@@ -131,7 +131,7 @@ class SearchCommandTest {
 
     // Must show: kill -9 mid-search, rerun the same command: the same final sets, each set paid once.
     @org.junit.jupiter.params.ParameterizedTest
-    @org.junit.jupiter.params.provider.ValueSource(strings = {"grow", "genetic"})
+    @org.junit.jupiter.params.provider.ValueSource(strings = {"grow", "genetic", "local"})
     void aSearchKilledMidWayResumesToTheSameResultPayingEachSetOnce(String strategy, @TempDir Path dir)
             throws Exception {
         Path killed = dir.resolve("killed");

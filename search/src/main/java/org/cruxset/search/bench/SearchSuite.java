@@ -25,7 +25,8 @@ import org.cruxset.search.strategy.RankedStrategy;
  */
 public final class SearchSuite {
     /** The strategies of the suite; later strategies join this list. */
-    public static final List<String> STRATEGIES = List.of("random", "grow", "grow+prune", "ranked+prune", "genetic");
+    public static final List<String> STRATEGIES = List.of("random", "grow", "grow+prune", "ranked+prune", "genetic",
+            "local");
 
     /** One run: its strategy, seed, budget, best critical size (−1: none), sets to reach it, trapped, the proof. */
     public record Run(String strategy, long seed, long budget, int bestSize, double chargedToBest, boolean trapped,
@@ -51,6 +52,8 @@ public final class SearchSuite {
             case "grow", "grow+prune" -> new GrowStrategy(false, false);
             case "grow-lazy+prune" -> new GrowStrategy(false, true);
             case "ranked+prune" -> new RankedStrategy(null);
+            case "local" -> new org.cruxset.search.strategy.LocalStrategy(
+                    org.cruxset.search.strategy.local.LocalSearch.Settings.defaults(), null);
             case "genetic" -> new org.cruxset.search.strategy.GeneticStrategy(
                     org.cruxset.search.strategy.GeneticStrategy.Settings.defaults(), null);
             default -> throw new IllegalArgumentException("unknown suite strategy '" + name + "', expected one of "
@@ -67,7 +70,8 @@ public final class SearchSuite {
                 Parts.DEFAULT_SEED, Parts.DEFAULT_CONFIRM);
         try (Decoder decoder = p.decoder(); ScoringSession session = ScoringSession.open(decoder, p.cohort(), settings)) {
             PlantedProblem.Proof proof = p.proof(PlantedProblem.ids(session.inputs().batch()), criterion);
-            boolean prune = strategy.endsWith("+prune") || strategy.equals("random") || strategy.equals("genetic");
+            boolean prune = strategy.endsWith("+prune") || strategy.equals("random") || strategy.equals("genetic")
+                    || strategy.equals("local");
             SearchRun.Result r = SearchRun.run(session, strategy(strategy),
                     new SearchRun.Settings(Double.POSITIVE_INFINITY, null, seed, prune, 5), null);
             RegionSet trapRegions = p.trapRegions();

@@ -98,7 +98,7 @@ public final class BenchCommand implements Callable<Integer> {
             description = "search suite: budgets in scored sets, comma-separated. Default: ${DEFAULT-VALUE}.")
     List<Long> budgets;
 
-    @Option(names = "--strategies", paramLabel = "S", split = ",", defaultValue = "random,grow,grow+prune,ranked+prune,genetic",
+    @Option(names = "--strategies", paramLabel = "S", split = ",", defaultValue = "random,grow,grow+prune,ranked+prune,genetic,local",
             description = "search suite: strategies, comma-separated. Default: ${DEFAULT-VALUE}.")
     List<String> strategies;
 

@@ -66,7 +66,7 @@ public final class SearchCommand implements Callable<Integer> {
     ScoringOptions scoring;
 
     @Option(names = "--strategy", defaultValue = "grow", paramLabel = "NAME",
-            description = "grow, ranked, prune, exhaustive, random or genetic. Default: ${DEFAULT-VALUE}.")
+            description = "grow, ranked, prune, exhaustive, random, genetic or local. Default: ${DEFAULT-VALUE}.")
     String strategy;
 
     @Option(names = "--budget", paramLabel = "N",
@@ -164,8 +164,10 @@ public final class SearchCommand implements Callable<Integer> {
             case "random" -> new RandomStrategy();
             case "genetic" -> new org.cruxset.search.strategy.GeneticStrategy(
                     org.cruxset.search.SearchConfig.read(config).genetic(), given);
+            case "local" -> new org.cruxset.search.strategy.LocalStrategy(
+                    org.cruxset.search.SearchConfig.read(config).local(), given);
             default -> throw new CommandLine.ParameterException(spec.commandLine(), "--strategy must be grow, ranked, "
-                    + "prune, exhaustive, random or genetic, found '" + strategy + "'");
+                    + "prune, exhaustive, random, genetic or local, found '" + strategy + "'");
         };
     }
 

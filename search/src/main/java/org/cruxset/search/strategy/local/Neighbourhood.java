@@ -1,0 +1,99 @@
+package org.cruxset.search.strategy.local;
+
+import java.util.ArrayList;
+import java.util.HashMap;
+import java.util.LinkedHashSet;
+import java.util.List;
+import java.util.Map;
+import java.util.SplittableRandom;
+import org.cruxset.scoring.eval.LesionScorer;
+import org.cruxset.scoring.eval.SetScore;
+import org.cruxset.scoring.lesion.RegionSet;
+import org.cruxset.search.SearchContext;
+import org.optaplanner.core.api.score.buildin.hardsoftlong.HardSoftLongScore;
+
+/**
+ * Each step's sampled neighbourhood, scored as one batch through the search context, and the graded score the solver
+ * reads from it. The neighbourhood of a set: restoring each lesioned region, lesioning {@code additions} intact
+ * regions drawn at random, and {@code swaps} random swaps (one lesioned region restored, one intact one lesioned).
+ * The hard score is how far a set is from critical: its correct samples above the most a critical set may have (times
+ * 1000), plus, while it is not critical, its mean true-class probability (in thousandths), so the solver has something
+ * to climb; the soft score is minus the set's size. Only the current step's scores are kept in memory.
+ */
+final class Neighbourhood {
+    private final SearchContext ctx;
+    private final SplittableRandom rng;
+    private final int additions;
+    private final int swaps;
+    private final int limit;
+    private final Map<RegionSet, SetScore> cache = new HashMap<>();
+    private int batches;
+    private long batchedSets;
+
+    Neighbourhood(SearchContext ctx, SplittableRandom rng, int additions, int swaps) {
+        this.ctx = ctx;
+        this.rng = rng;
+        this.additions = additions;
+        this.swaps = swaps;
+        this.limit = ctx.maxCorrectWhenCritical();
+    }
+
+    /** The moves of this step, their sets scored as one batch first. */
+    List<FlipMove> moves(LesionPlan plan) {
+        List<RegionVar> on = new ArrayList<>();
+        List<RegionVar> off = new ArrayList<>();
+        for (RegionVar v : plan.getRegions()) {
+            (Boolean.TRUE.equals(v.getLesioned()) ? on : off).add(v);
+        }
+        RegionSet current = plan.set();
+        List<FlipMove> moves = new ArrayList<>();
+        LinkedHashSet<RegionSet> sets = new LinkedHashSet<>();
+        for (RegionVar v : on) {
+            moves.add(new FlipMove(List.of(v)));
+            sets.add(current.without(v.position()));
+        }
+        for (int i = 0; i < Math.min(additions, off.size()); i++) {
+            RegionVar v = off.get(rng.nextInt(off.size()));
+            moves.add(new FlipMove(List.of(v)));
+            sets.add(current.with(v.position()));
+        }
+        for (int i = 0; i < swaps && !on.isEmpty() && !off.isEmpty(); i++) {
+            RegionVar a = on.get(rng.nextInt(on.size()));
+            RegionVar b = off.get(rng.nextInt(off.size()));
+            moves.add(new FlipMove(List.of(a, b)));
+            sets.add(current.without(a.position()).with(b.position()));
+        }
+        cache.clear();
+        List<RegionSet> batch = new ArrayList<>(sets);
+        List<LesionScorer.Scored> scored = ctx.score(batch);
+        for (LesionScorer.Scored s : scored) {
+            cache.put(s.set(), s.score());
+        }
+        batches++;
+        batchedSets += batch.size();
+        return moves;
+    }
+
+    /** The graded score of the plan's set, from this step's batch or scored alone (e.g. the first set). */
+    HardSoftLongScore score(LesionPlan plan) {
+        RegionSet s = plan.set();
+        SetScore q = cache.get(s);
+        if (q == null) {
+            q = ctx.score(s).score();
+            cache.put(s, q);
+        }
+        boolean critical = !s.isEmpty() && ctx.critical(q);
+        long excess = Math.max(0, q.correct() - limit);
+        long fine = critical ? 0 : Math.round(999 * q.meanTrueClassProbability());
+        return HardSoftLongScore.of(-(excess * 1000 + fine), -s.size());
+    }
+
+    /** Steps whose neighbourhood was scored, and the mean batch size. */
+    int batches() {
+        return batches;
+    }
+
+    double meanBatch() {
+        return batches == 0 ? 0 : (double) batchedSets / batches;
+    }
+}
