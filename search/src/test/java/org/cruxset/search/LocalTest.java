@@ -30,4 +30,18 @@ class LocalTest {
         }
         assertEquals(fronts.get(0), fronts.get(1), "same seed, same front");
     }
+
+    // CI size of the must-show (20 seeds in the full suite): at 20,000 scored sets local beats random and is at least
+    // as successful as grow+prune.
+    @Test
+    void localBeatsRandomAndMatchesGrowThenPruneOnTheBenchmark(@TempDir Path dir) {
+        List<org.cruxset.search.bench.SearchSuite.Row> rows = org.cruxset.search.bench.SearchSuite.run(
+                PlantedProblem.benchmark(), List.of("grow+prune", "local"), List.of(20_000L),
+                List.of(1L, 2L, 3L, 4L, 5L), dir, null);
+        org.cruxset.search.bench.SearchSuite.Row grow = rows.get(0);
+        org.cruxset.search.bench.SearchSuite.Row local = rows.get(1);
+        assertTrue(local.successes() >= grow.successes(), "local " + local + ", grow+prune " + grow);
+        assertTrue(local.successes() >= 4, "local reaches 12 on at least 4 of 5 seeds: " + local);
+        assertTrue(local.medianBest() < 20, "random's median best size is above 100 at this budget: " + local);
+    }
 }
