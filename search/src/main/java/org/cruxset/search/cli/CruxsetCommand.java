@@ -56,6 +56,11 @@ public final class CruxsetCommand implements Callable<Integer> {
     }
 
     public static void main(String[] args) {
+        // OptaPlanner logs through SLF4J, which warns on stderr that no logging backend is bound; Cruxset prints its
+        // own progress and results, so only SLF4J's errors are shown.
+        if (System.getProperty("slf4j.internal.verbosity") == null) {
+            System.setProperty("slf4j.internal.verbosity", "ERROR");
+        }
         System.exit(commandLine().execute(args));
     }
 
