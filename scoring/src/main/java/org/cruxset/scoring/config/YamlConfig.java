@@ -43,9 +43,7 @@ public final class YamlConfig {
         try {
             given = YAML.readTree(file.toFile());
         } catch (JsonProcessingException e) {
-            JsonLocation loc = e.getLocation();
-            String where = loc == null ? "" : ":" + loc.getLineNr() + ":" + loc.getColumnNr();
-            throw new ConfigException(file + where + ": not valid YAML: " + e.getOriginalMessage(), e);
+            throw notYaml(file, e);
         } catch (IOException e) {
             throw new UncheckedIOException(file + ": cannot read: " + e.getMessage(), e);
         }
@@ -80,6 +78,12 @@ public final class YamlConfig {
         });
     }
 
+    private static ConfigException notYaml(Path file, JsonProcessingException e) {
+        JsonLocation loc = e.getLocation();
+        String where = loc == null ? "" : ":" + loc.getLineNr() + ":" + loc.getColumnNr();
+        return new ConfigException(file + where + ": not valid YAML: " + e.getOriginalMessage(), e);
+    }
+
     /** Reads {@code file} as a {@code type}. */
     public static <T> T read(Path file, Class<T> type) {
         if (!Files.isRegularFile(file)) {
@@ -102,9 +106,7 @@ public final class YamlConfig {
             sb.append(": ").append(msg);
             throw new ConfigException(sb.toString(), e);
         } catch (JsonProcessingException e) {
-            JsonLocation loc = e.getLocation();
-            String where = loc == null ? "" : ":" + loc.getLineNr() + ":" + loc.getColumnNr();
-            throw new ConfigException(file + where + ": not valid YAML: " + e.getOriginalMessage(), e);
+            throw notYaml(file, e);
         } catch (IOException e) {
             throw new UncheckedIOException(file + ": cannot read: " + e.getMessage(), e);
         }
