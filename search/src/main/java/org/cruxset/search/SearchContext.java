@@ -49,6 +49,7 @@ public final class SearchContext {
     private int tracePosition;
     private long lastSaveNanos = System.nanoTime();
     private int batches;
+    private double reserve;
 
     /**
      * A context over {@code session}'s search part. {@code records} (nullable: no store) keep the trace;
@@ -139,6 +140,17 @@ public final class SearchContext {
         return chargedAtBest;
     }
 
+    /**
+     * Keeps {@code sets} scored sets of the budget back from what {@link #score} may spend (0: none): the share a
+     * search run holds for the certificates it computes after its strategy.
+     */
+    public void reserve(double sets) {
+        if (!(sets >= 0)) {
+            throw new IllegalArgumentException("the reserve must be 0 or more, found " + sets);
+        }
+        this.reserve = sets;
+    }
+
     /** The budget of scored sets, or infinity. */
     public double budgetLimit() {
         return scorer.budget().limit();
@@ -185,13 +197,15 @@ public final class SearchContext {
             }
             return replayed;
         }
-        List<LesionScorer.Scored> scored = scorer.scoreWithinBudget(sets);
+        List<LesionScorer.Scored> scored = scorer.scoreWithinBudget(sets, reserve);
         batches++;
         account(scored);
         listener.scored(this);
         if (scored.size() < sets.size()) {
-            throw new StopSearch(StopSearch.Reason.BUDGET, "the budget of " + (long) scorer.budget().limit()
-                    + " scored sets is spent");
+            throw new StopSearch(StopSearch.Reason.BUDGET, reserve > 0
+                    ? "the search's share of the budget of " + (long) scorer.budget().limit() + " scored sets is spent ("
+                    + (long) reserve + " kept for certificates)"
+                    : "the budget of " + (long) scorer.budget().limit() + " scored sets is spent");
         }
         return scored;
     }

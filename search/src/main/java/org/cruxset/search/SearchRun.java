@@ -13,14 +13,24 @@ import org.cruxset.search.strategy.PruneStrategy;
 
 /**
  * Runs one strategy on a scoring session: starts (or resumes) the search's row in the store, runs the strategy until
- * it ends or the budget or time is spent, prunes the best critical sets so each carries an irreducibility certificate
- * (unless told not to), re-scores every reported set on the confirmation part (not charged), and records the front,
+ * it ends or the budget (less a share kept for certificates) or time is spent, prunes the best critical sets so each
+ * carries an irreducibility certificate (unless told not to), paid from that share and whatever the strategy left, re-scores every reported set on the confirmation part (not charged), and records the front,
  * the reported sets and the status.
  */
 public final class SearchRun {
-    /** Settings of a search besides the strategy: time limit (infinite: none), deadline (nullable), seed, pruning. */
-    public record Settings(double timeLimitSeconds, Instant deadline, long seed, boolean prune, int certify) {
+    /**
+     * Settings of a search besides the strategy: time limit (infinite: none), deadline (nullable), seed, pruning, how
+     * many best sets to certify, and the share of a finite budget kept back from the strategy for the certificates.
+     */
+    public record Settings(double timeLimitSeconds, Instant deadline, long seed, boolean prune, int certify,
+                           double reserve) {
+        /** The share of the budget kept for certificates unless told otherwise. */
+        public static final double DEFAULT_RESERVE = 0.05;
+
         public Settings {
+            if (!(reserve >= 0 && reserve < 1)) {
+                throw new IllegalArgumentException("the reserve must be within [0, 1), found " + reserve);
+            }
             if (!(timeLimitSeconds > 0)) {
                 throw new IllegalArgumentException("the time limit must be positive, found " + timeLimitSeconds);
             }
@@ -77,19 +87,49 @@ public final class SearchRun {
         }
         SearchContext ctx = new SearchContext(session, settings.seed(), records, elapsedBefore, timeLimit, deadline,
                 listener);
-        String status = "finished";
-        String message = "the strategy ended by itself";
-        try {
-            strategy.run(ctx);
-            if (settings.prune() && !(strategy instanceof PruneStrategy)) {
-                PruneStrategy.certifyBest(ctx, settings.certify());
+        boolean certify = settings.prune() && !(strategy instanceof PruneStrategy);
+        double budget = session.scorer().budget().limit();
+        if (certify && Double.isFinite(budget)) {
+            ctx.reserve(Math.floor(settings.reserve() * budget));
+        }
+        Outcome outcome = runStrategy(strategy, ctx);
+        if (certify && !outcome.status().equals("time")) {
+            ctx.reserve(0);
+            outcome = certify(ctx, settings.certify(), outcome);
+            if (outcome.status().equals("budget") && session.scorer().budget().remaining() > 0) {
+                // The strategy stopped at its share; it runs again with what certifying left, replaying its path
+                // (every set on it is paid for) up to where it stopped, so the budget is spent exactly.
+                outcome = certify(ctx, settings.certify(), runStrategy(strategy, ctx));
             }
-        } catch (StopSearch stop) {
-            status = stop.reason() == StopSearch.Reason.BUDGET ? "budget" : "time";
-            message = stop.getMessage();
         }
         ctx.save(true);
-        return finish(ctx, records, status, message);
+        return finish(ctx, records, outcome.status(), outcome.message());
+    }
+
+    /** Why a phase of the run stopped: {@code finished}, {@code budget} or {@code time}, and the message. */
+    private record Outcome(String status, String message) {
+        static Outcome of(StopSearch stop, String suffix) {
+            return new Outcome(stop.reason() == StopSearch.Reason.BUDGET ? "budget" : "time", stop.getMessage() + suffix);
+        }
+    }
+
+    private static Outcome runStrategy(Strategy strategy, SearchContext ctx) {
+        try {
+            strategy.run(ctx);
+            return new Outcome("finished", "the strategy ended by itself");
+        } catch (StopSearch stop) {
+            return Outcome.of(stop, "");
+        }
+    }
+
+    /** Prunes and certifies the best sets; the outcome changes only when the budget or time runs out meanwhile. */
+    private static Outcome certify(SearchContext ctx, int certify, Outcome outcome) {
+        try {
+            PruneStrategy.certifyBest(ctx, certify);
+            return outcome;
+        } catch (StopSearch stop) {
+            return Outcome.of(stop, " while certifying the best sets");
+        }
     }
 
     private static Result finish(SearchContext ctx, SearchRecords records, String status, String message) {

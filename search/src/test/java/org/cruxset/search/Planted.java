@@ -28,7 +28,8 @@ final class Planted {
 
     /** Runs {@code strategy} on {@code session} with the given seed, pruning unless told not to. */
     static SearchRun.Result run(ScoringSession session, Strategy strategy, long seed, boolean prune) {
-        return SearchRun.run(session, strategy, new SearchRun.Settings(Double.POSITIVE_INFINITY, null, seed, prune, 20),
+        return SearchRun.run(session, strategy, new SearchRun.Settings(Double.POSITIVE_INFINITY, null, seed, prune, 20,
+                SearchRun.Settings.DEFAULT_RESERVE),
                 null);
     }
 }

@@ -90,7 +90,7 @@ class StrategiesTest {
         PlantedProblem p = new PlantedProblem(PlantedProblem.benchmark(), 1);
         SearchRun.Result r;
         try (ScoringSession s = Planted.session(p, Double.POSITIVE_INFINITY, dir, "timed")) {
-            r = SearchRun.run(s, new RandomStrategy(), new SearchRun.Settings(0.5, null, 1, false, 1), null);
+            r = SearchRun.run(s, new RandomStrategy(), new SearchRun.Settings(0.5, null, 1, false, 1, 0), null);
             assertEquals("time", r.status());
             assertTrue(r.stopMessage().contains("time limit"), r.stopMessage());
             assertTrue(r.elapsedSeconds() >= 0.5, "ran its half second: " + r.elapsedSeconds());
@@ -98,7 +98,7 @@ class StrategiesTest {
         try (ScoringSession s = Planted.session(p, Double.POSITIVE_INFINITY, dir, "timed")) {
             assertTrue(s.run().resumed());
             SearchRun.Result again = SearchRun.run(s, new RandomStrategy(), new SearchRun.Settings(0.5, null, 1, false,
-                    1), null);
+                    1, 0), null);
             assertEquals("time", again.status());
             assertEquals(0, s.scorer().decodedCount(), "no time was left: the resumed run scores nothing new");
             assertEquals(r.bestSize(), again.bestSize(), "but it replays what it had found and reports it");

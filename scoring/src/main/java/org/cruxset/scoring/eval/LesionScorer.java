@@ -176,7 +176,15 @@ public final class LesionScorer {
      * of that prefix (all of {@code sets} when they fit): how a search meets its budget exactly.
      */
     public List<Scored> scoreWithinBudget(List<RegionSet> sets) {
-        return score(sets, true, budget.remaining());
+        return scoreWithinBudget(sets, 0);
+    }
+
+    /**
+     * As {@link #scoreWithinBudget(List)}, leaving {@code keep} scored sets of the budget unspent (for a later phase
+     * of the same run).
+     */
+    public List<Scored> scoreWithinBudget(List<RegionSet> sets, double keep) {
+        return score(sets, true, Math.max(0, budget.remaining() - keep));
     }
 
     /**

@@ -11,9 +11,12 @@ import org.cruxset.scoring.eval.Parts;
 import org.cruxset.scoring.eval.ScoringSession;
 import org.cruxset.scoring.lesion.LesionMode;
 import org.cruxset.scoring.lesion.RegionSet;
+import org.cruxset.search.SearchConfig;
 import org.cruxset.search.SearchRun;
 import org.cruxset.search.Strategy;
+import org.cruxset.search.strategy.GeneticStrategy;
 import org.cruxset.search.strategy.GrowStrategy;
+import org.cruxset.search.strategy.LocalStrategy;
 import org.cruxset.search.strategy.RandomStrategy;
 import org.cruxset.search.strategy.RankedStrategy;
 
@@ -46,23 +49,22 @@ public final class SearchSuite {
     }
 
     /** The strategy behind a suite name, and whether its best sets are pruned afterwards. */
-    static Strategy strategy(String name) {
+    static Strategy strategy(String name, SearchConfig settings) {
         return switch (name) {
             case "random" -> new RandomStrategy();
             case "grow", "grow+prune" -> new GrowStrategy(false, false);
             case "grow-lazy+prune" -> new GrowStrategy(false, true);
             case "ranked+prune" -> new RankedStrategy(null);
-            case "local" -> new org.cruxset.search.strategy.LocalStrategy(
-                    org.cruxset.search.strategy.local.LocalSearch.Settings.defaults(), null);
-            case "genetic" -> new org.cruxset.search.strategy.GeneticStrategy(
-                    org.cruxset.search.strategy.GeneticStrategy.Settings.defaults(), null);
+            case "local" -> new LocalStrategy(settings.local(), null);
+            case "genetic" -> new GeneticStrategy(settings.genetic(), null);
             default -> throw new IllegalArgumentException("unknown suite strategy '" + name + "', expected one of "
                     + STRATEGIES);
         };
     }
 
     /** Runs {@code strategy} on the instance of {@code seed} with {@code budget} scored sets, in a store in {@code dir}. */
-    public static Run runOne(PlantedProblem.Config config, String strategy, long seed, long budget, Path dir) {
+    public static Run runOne(PlantedProblem.Config config, SearchConfig strategies, String strategy, long seed,
+                             long budget, Path dir) {
         PlantedProblem p = new PlantedProblem(config, seed);
         CollapseCriterion criterion = CollapseCriterion.defaults();
         ScoringSession.Settings settings = new ScoringSession.Settings(LesionMode.ZERO, 0, null, criterion, budget, 1,
@@ -72,8 +74,9 @@ public final class SearchSuite {
             PlantedProblem.Proof proof = p.proof(PlantedProblem.ids(session.inputs().batch()), criterion);
             boolean prune = strategy.endsWith("+prune") || strategy.equals("random") || strategy.equals("genetic")
                     || strategy.equals("local");
-            SearchRun.Result r = SearchRun.run(session, strategy(strategy),
-                    new SearchRun.Settings(Double.POSITIVE_INFINITY, null, seed, prune, 5), null);
+            SearchRun.Result r = SearchRun.run(session, strategy(strategy, strategies),
+                    new SearchRun.Settings(Double.POSITIVE_INFINITY, null, seed, prune, 5,
+                            SearchRun.Settings.DEFAULT_RESERVE), null);
             RegionSet trapRegions = p.trapRegions();
             boolean trapped = false;
             for (SearchRun.Reported x : r.reported()) {
@@ -87,16 +90,19 @@ public final class SearchSuite {
         }
     }
 
-    /** Runs every strategy × budget × seed and summarises; {@code log} (nullable) hears each run. */
-    public static List<Row> run(PlantedProblem.Config config, List<String> strategies, List<Long> budgets,
-                                List<Long> seeds, Path dir, PrintWriter log) {
+    /**
+     * Runs every strategy × budget × seed with the strategy settings {@code settings} and summarises; {@code log}
+     * (nullable) hears each run.
+     */
+    public static List<Row> run(PlantedProblem.Config config, SearchConfig settings, List<String> strategies,
+                                List<Long> budgets, List<Long> seeds, Path dir, PrintWriter log) {
         List<Row> rows = new ArrayList<>();
         int n = 0;
         for (String s : strategies) {
             for (long b : budgets) {
                 List<Run> runs = new ArrayList<>();
                 for (long seed : seeds) {
-                    Run r = runOne(config, s, seed, b, dir.resolve("run-" + (n++)));
+                    Run r = runOne(config, settings, s, seed, b, dir.resolve("run-" + (n++)));
                     if (!r.proof().holds()) {
                         throw new IllegalStateException("the planted minimum of seed " + seed + " is not proven: " + r.proof());
                     }

@@ -102,6 +102,10 @@ public final class BenchCommand implements Callable<Integer> {
             description = "search suite: strategies, comma-separated. Default: ${DEFAULT-VALUE}.")
     List<String> strategies;
 
+    @Option(names = "--config", paramLabel = "FILE",
+            description = "search suite: a YAML file of strategy settings, as for search --config (default: the defaults).")
+    java.nio.file.Path config;
+
     @Override
     public Integer call() throws java.io.IOException {
         switch (suite) {
@@ -136,7 +140,8 @@ public final class BenchCommand implements Callable<Integer> {
         }
         java.nio.file.Path dir = java.nio.file.Files.createTempDirectory("cruxset-bench-search-");
         long t0 = System.nanoTime();
-        List<org.cruxset.search.bench.SearchSuite.Row> rows = org.cruxset.search.bench.SearchSuite.run(cfg, strategies,
+        List<org.cruxset.search.bench.SearchSuite.Row> rows = org.cruxset.search.bench.SearchSuite.run(cfg,
+                org.cruxset.search.SearchConfig.read(config), strategies,
                 budgets, seedList, dir, out);
         List<String[]> table = new ArrayList<>();
         table.add(new String[] {"strategy", "budget", "runs", "success rate", "median best size", "median sets to best",
@@ -150,7 +155,8 @@ public final class BenchCommand implements Callable<Integer> {
         }
         out.println();
         Table.print(out, table);
-        out.printf(Locale.ROOT, "%nWall time %.1f s. Stores in %s.%n", (System.nanoTime() - t0) / 1e9, dir);
+        out.printf(Locale.ROOT, "%nWall time %.1f s.%n", (System.nanoTime() - t0) / 1e9);
+        keepOrDelete(out, dir, "Stores");
         return 0;
     }
 
@@ -166,19 +172,24 @@ public final class BenchCommand implements Callable<Integer> {
                         + "scored set (%.1f per sample). Heap in use after a collection: %.0f MB at 10%%, %.0f MB at the end.%n",
                 r.sets(), r.samples(), r.seconds(), r.setsPerSecond(), r.storeBytes(), r.bytesPerSet(),
                 r.bytesPerSet() / r.samples(), r.points().get(0).heapMb(), r.points().get(r.points().size() - 1).heapMb());
-        if (!keep) {
-            try (java.util.stream.Stream<java.nio.file.Path> files = java.nio.file.Files.walk(dir)) {
-                for (java.nio.file.Path f : files.sorted(java.util.Comparator.reverseOrder()).toList()) {
-                    java.nio.file.Files.deleteIfExists(f);
-                }
-            }
-        } else {
-            out.println("Store kept in " + dir);
-        }
+        keepOrDelete(out, dir, "Store");
         return 0;
     }
 
-    @Option(names = "--keep", description = "soak: keep the store (default: deleted after measuring).")
+    /** Deletes the suite's stores, or says where they are kept ({@code --keep}). */
+    private void keepOrDelete(PrintWriter out, java.nio.file.Path dir, String what) throws java.io.IOException {
+        if (keep) {
+            out.println(what + " kept in " + dir);
+            return;
+        }
+        try (java.util.stream.Stream<java.nio.file.Path> files = java.nio.file.Files.walk(dir)) {
+            for (java.nio.file.Path f : files.sorted(java.util.Comparator.reverseOrder()).toList()) {
+                java.nio.file.Files.deleteIfExists(f);
+            }
+        }
+    }
+
+    @Option(names = "--keep", description = "search and soak: keep the stores (default: deleted after measuring).")
     boolean keep;
 
     private int engineSuite() {

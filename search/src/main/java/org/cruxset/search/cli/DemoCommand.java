@@ -140,7 +140,8 @@ public final class DemoCommand implements Callable<Integer> {
             pw.println("A short search over all " + session.inputs().batch().regions() + " regions (grow, then prune), "
                     + "without looking at the truth:");
             SearchRun.Result r = SearchRun.run(session, new GrowStrategy(false, false),
-                    new SearchRun.Settings(Double.POSITIVE_INFINITY, null, 1, true, PruneStrategy.DEFAULT_CERTIFY), null);
+                    new SearchRun.Settings(Double.POSITIVE_INFINITY, null, 1, true, PruneStrategy.DEFAULT_CERTIFY,
+                            SearchRun.Settings.DEFAULT_RESERVE), null);
             for (SearchRun.Reported x : r.reported()) {
                 String names = SearchCommand.names(session, x.set());
                 boolean inTruth = smallest.stream().anyMatch(t -> new java.util.HashSet<>(t).equals(

@@ -117,6 +117,11 @@ public final class SearchCommand implements Callable<Integer> {
             description = "How many of the best critical sets to prune and certify. Default: ${DEFAULT-VALUE}.")
     int certify;
 
+    @Option(names = "--reserve", defaultValue = "" + SearchRun.Settings.DEFAULT_RESERVE, paramLabel = "FRACTION",
+            description = "Share of the budget kept back from the strategy for pruning and certifying its best sets "
+                    + "(0 to 1; unused with --no-prune). Default: ${DEFAULT-VALUE}.")
+    double reserve;
+
     @Override
     public Integer call() {
         PrintWriter pw = spec.commandLine().getOut();
@@ -125,6 +130,10 @@ public final class SearchCommand implements Callable<Integer> {
         }
         if (hours != null && !(hours > 0)) {
             throw new CommandLine.ParameterException(spec.commandLine(), "--hours must be positive, found " + hours);
+        }
+        if (!(reserve >= 0 && reserve < 1)) {
+            throw new CommandLine.ParameterException(spec.commandLine(), "--reserve must be at least 0 and below 1, found "
+                    + reserve);
         }
         Instant deadline = until == null ? null : nextTime(until);
         Cohort c = cohort.read();
@@ -145,7 +154,8 @@ public final class SearchCommand implements Callable<Integer> {
                     session.run() != null && session.run().resumed() ? " Resuming an earlier run of this command." : "");
             SearchProgress progress = new SearchProgress(spec.commandLine().getErr(), budget);
             SearchRun.Result r = SearchRun.run(session, s, new SearchRun.Settings(
-                    hours == null ? Double.POSITIVE_INFINITY : hours * 3600, deadline, seed, !noPrune, certify),
+                    hours == null ? Double.POSITIVE_INFINITY : hours * 3600, deadline, seed, !noPrune, certify,
+                    reserve),
                     progress);
             progress.done();
             print(pw, session, s, r);

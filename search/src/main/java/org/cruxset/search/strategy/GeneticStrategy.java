@@ -38,10 +38,15 @@ import org.cruxset.search.rank.SingleLesion;
  * larger one and the population gathers at the boundary of criticality rather than across all sizes (the criterion
  * as a graded objective rather than a constraint: a constraint gives non-critical sets nothing to climb).
  *
- * <p>The first population is half nested prefixes of a ranking (single lesions on the search part, or one given) of
- * sizes spread from 1 to {@code maxInitialSize}, half random sets of such sizes. Offspring come from uniform crossover
- * and a sparsity-aware mutation that removes {@code removals} regions and adds {@code additions} on average, whatever
- * the set's size (a plain bit-flip rate would add about N × rate regions and swamp small sets). Each generation's new
+ * <p>The first population: a share {@code supersetShare} are variants of a critical superset of a ranking (single
+ * lesions on the search part, or one given; {@link RankedPool#criticalSuperset}: its first {@code supersetFactor} ×
+ * k regions, k the length of its smallest critical prefix), each region kept with probability 0.9, so the population
+ * starts above the boundary of criticality and can shed the ranking's early regions when later ones replace them
+ * (a greedy path's trap); the rest (all, when no prefix is critical) are half nested prefixes of the ranking of sizes
+ * spread from 1 to {@code maxInitialSize}, half random sets of such sizes. Offspring come from uniform crossover and
+ * a sparsity-aware mutation that removes {@code removals} regions and adds {@code additions} on average, whatever the
+ * set's size (a plain bit-flip rate would add about N × rate regions and swamp small sets), a share {@code focus} of
+ * the additions drawn from the ranking's first {@code pool} regions ({@link RankedPool}). Each generation's new
  * sets are scored as one batch. A population that goes {@code patience} generations without a smaller critical set is
  * restarted from a new first population (at most {@code restarts} times: a population caught in a trap rarely
  * leaves it, a fresh one often avoids it); the search stops after {@code generations} generations in all, or when the
@@ -50,16 +55,30 @@ import org.cruxset.search.rank.SingleLesion;
 public final class GeneticStrategy implements Strategy {
     /** Settings, each with a default chosen on the search benchmark. */
     public record Settings(int population, double crossover, double additions, double removals, int maxInitialSize,
-                           int generations, int patience, int restarts, String grading) {
+                           int generations, int patience, int restarts, String grading, int pool, double focus,
+                           double supersetFactor, double supersetShare) {
         public Settings {
+            if (!(focus >= 0 && focus <= 1)) {
+                throw new IllegalArgumentException("focus must be within [0, 1], found " + focus);
+            }
+            if (pool < 0) {
+                throw new IllegalArgumentException("pool must be at least 0, found " + pool);
+            }
             if (!List.of("excess", "probability", "mixed").contains(grading)) {
-                throw new IllegalArgumentException("grading must be excess, probability or mixed, found '" + grading + "'");
+                throw new IllegalArgumentException("grading must be excess, probability or mixed, found '" + grading
+                        + "'");
+            }
+            if (!(supersetFactor >= 1)) {
+                throw new IllegalArgumentException("supersetFactor must be at least 1, found " + supersetFactor);
+            }
+            if (!(supersetShare >= 0 && supersetShare <= 1)) {
+                throw new IllegalArgumentException("supersetShare must be within [0, 1], found " + supersetShare);
             }
         }
 
         /** The defaults. */
         public static Settings defaults() {
-            return new Settings(100, 0.5, 1.0, 1.5, 48, 2000, 150, 0, "mixed");
+            return new Settings(100, 0.2, 1.0, 1.5, 48, 2000, 150, 0, "mixed", 48, 0.5, 1.5, 1.0);
         }
     }
 
@@ -83,15 +102,17 @@ public final class GeneticStrategy implements Strategy {
                 + settings.additions() + ", removals=" + settings.removals() + ", maxInitialSize="
                 + settings.maxInitialSize() + ", generations=" + settings.generations() + ", patience="
                 + settings.patience() + ", restarts=" + settings.restarts() + ", grading=" + settings.grading()
-                + ", ranking="
+                + ", pool=" + settings.pool() + ", focus=" + settings.focus() + ", ranking="
                 + (given == null ? SingleLesion.SOURCE : "given");
     }
 
     @Override
     public void run(SearchContext ctx) {
         int n = ctx.regions();
-        List<Integer> order = rankedPositions(ctx);
+        RankedPool pool = RankedPool.of(ctx, given, settings.pool(), settings.focus());
+        List<Integer> order = pool.order();
         int limit = ctx.maxCorrectWhenCritical();
+        RegionSet superset = settings.supersetShare() > 0 ? pool.criticalSuperset(ctx, settings.supersetFactor()) : null;
         Evaluator<BitGene, Vec<double[]>> evaluator = population -> {
             List<Phenotype<BitGene, Vec<double[]>>> all = new ArrayList<>(population.asList());
             List<RegionSet> batch = new ArrayList<>();
@@ -114,10 +135,10 @@ public final class GeneticStrategy implements Strategy {
         SplittableRandom rng = ctx.random("genetic");
         Engine<BitGene, Vec<double[]>> engine = Nsga2.builder(evaluator, Genotype.of(BitChromosome.of(n, 0.05)),
                 settings.population(), new UniformCrossover<>(settings.crossover(), 0.5),
-                new SparseMutator(settings.additions(), settings.removals())).build();
+                new SparseMutator(settings.additions(), settings.removals(), pool)).build();
         int generations = 0;
         for (int restart = 0; restart <= settings.restarts() && generations < settings.generations(); restart++) {
-            ISeq<Phenotype<BitGene, Vec<double[]>>> first = initial(n, order, rng, restart);
+            ISeq<Phenotype<BitGene, Vec<double[]>>> first = initial(n, order, rng, restart, superset);
             int left = settings.generations() - generations;
             generations += RandomRegistry.with(rng.split(), r -> evolve(ctx, engine, first, left));
         }
@@ -187,35 +208,25 @@ public final class GeneticStrategy implements Strategy {
         }
     }
 
-    private List<Integer> rankedPositions(SearchContext ctx) {
-        Ranking r = given == null ? SingleLesion.rank(ctx) : given;
-        List<Integer> out = new ArrayList<>();
-        RegionSet seen = ctx.empty();
-        for (RegionSet atlasPrefix : r.prefixes(ctx.session().cohort().atlas())) {
-            RegionSet in = ctx.session().toInputs(atlasPrefix);
-            for (int p : in.positions()) {
-                if (!seen.contains(p)) {
-                    out.add(p);
-                    seen = seen.with(p);
-                }
-            }
-        }
-        return out;
-    }
-
     /**
      * A first population: even members are ranking prefixes (from restart 1 on, each region of a prefix kept with
      * probability 0.8, so restarts start elsewhere), odd members random sets; sizes spread from 1 to
      * {@code maxInitialSize}.
      */
     private ISeq<Phenotype<BitGene, Vec<double[]>>> initial(int n, List<Integer> order, SplittableRandom rng,
-                                                            int restart) {
+                                                            int restart, RegionSet superset) {
         List<Phenotype<BitGene, Vec<double[]>>> pop = new ArrayList<>();
         int max = Math.max(1, Math.min(settings.maxInitialSize(), n - 1));
         for (int i = 0; i < settings.population(); i++) {
             int size = 1 + (int) Math.round((max - 1) * Math.pow((double) i / Math.max(1, settings.population() - 1), 2));
             BitSet bits = new BitSet(n);
-            if (i % 2 == 0) {
+            if (superset != null && (i + 0.5) / settings.population() < settings.supersetShare()) {
+                for (int p : superset.positions()) {
+                    if (rng.nextDouble() < 0.9) {
+                        bits.set(p);
+                    }
+                }
+            } else if (i % 2 == 0) {
                 for (int j = 0; j < Math.min(size, order.size()); j++) {
                     if (restart == 0 || rng.nextDouble() < 0.8) {
                         bits.set(order.get(j));
@@ -242,15 +253,21 @@ public final class GeneticStrategy implements Strategy {
         return s;
     }
 
-    /** Removes {@code removals} and adds {@code additions} regions on average, whatever the set's size. */
+    /**
+     * Removes {@code removals} and adds {@code additions} regions on average, whatever the set's size; a share
+     * {@code focus} of the additions goes to the ranked pool's intact regions (all to the others when the pool is
+     * fully lesioned).
+     */
     static final class SparseMutator extends Mutator<BitGene, Vec<double[]>> {
         private final double additions;
         private final double removals;
+        private final RankedPool pool;
 
-        SparseMutator(double additions, double removals) {
+        SparseMutator(double additions, double removals, RankedPool pool) {
             super(1.0);
             this.additions = additions;
             this.removals = removals;
+            this.pool = pool;
         }
 
         @Override
@@ -259,13 +276,20 @@ public final class GeneticStrategy implements Strategy {
             BitChromosome c = chromosome.as(BitChromosome.class);
             int n = c.length();
             int k = c.bitCount();
+            int poolOff = 0;
+            for (int i = 0; i < n; i++) {
+                poolOff += !c.get(i).bit() && pool.inPool(i) ? 1 : 0;
+            }
+            int otherOff = n - k - poolOff;
+            double toPool = poolOff == 0 ? 0 : otherOff == 0 ? 1 : pool.focus();
             double pRemove = k == 0 ? 0 : Math.min(1, removals / k);
-            double pAdd = k == n ? 0 : Math.min(1, additions / (n - k));
+            double pAddPool = poolOff == 0 ? 0 : Math.min(1, toPool * additions / poolOff);
+            double pAddOther = otherOff == 0 ? 0 : Math.min(1, (1 - toPool) * additions / otherOff);
             BitSet bits = new BitSet(n);
             int changed = 0;
             for (int i = 0; i < n; i++) {
                 boolean on = c.get(i).bit();
-                boolean flip = random.nextDouble() < (on ? pRemove : pAdd);
+                boolean flip = random.nextDouble() < (on ? pRemove : pool.inPool(i) ? pAddPool : pAddOther);
                 if (on != flip) {
                     bits.set(i);
                 }

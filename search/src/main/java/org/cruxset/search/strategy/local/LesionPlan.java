@@ -6,7 +6,7 @@ import org.optaplanner.core.api.domain.solution.PlanningEntityCollectionProperty
 import org.optaplanner.core.api.domain.solution.PlanningScore;
 import org.optaplanner.core.api.domain.solution.PlanningSolution;
 import org.optaplanner.core.api.domain.valuerange.ValueRangeProvider;
-import org.optaplanner.core.api.score.buildin.hardsoftlong.HardSoftLongScore;
+import org.optaplanner.core.api.score.buildin.hardmediumsoftlong.HardMediumSoftLongScore;
 
 /**
  * The local search's planning solution: one {@link RegionVar} per region (lesioned or not), the {@link Neighbourhood}
@@ -21,7 +21,7 @@ public class LesionPlan {
     private List<Boolean> values = List.of(Boolean.FALSE, Boolean.TRUE);
 
     @PlanningScore
-    private HardSoftLongScore score;
+    private HardMediumSoftLongScore score;
 
     private Neighbourhood neighbourhood;
 
@@ -38,11 +38,11 @@ public class LesionPlan {
         return regions;
     }
 
-    public HardSoftLongScore getScore() {
+    public HardMediumSoftLongScore getScore() {
         return score;
     }
 
-    public void setScore(HardSoftLongScore score) {
+    public void setScore(HardMediumSoftLongScore score) {
         this.score = score;
     }
 

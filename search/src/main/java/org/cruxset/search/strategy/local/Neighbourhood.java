@@ -10,19 +10,25 @@ import org.cruxset.scoring.eval.LesionScorer;
 import org.cruxset.scoring.eval.SetScore;
 import org.cruxset.scoring.lesion.RegionSet;
 import org.cruxset.search.SearchContext;
-import org.optaplanner.core.api.score.buildin.hardsoftlong.HardSoftLongScore;
+import org.cruxset.search.strategy.RankedPool;
+import org.optaplanner.core.api.score.buildin.hardmediumsoftlong.HardMediumSoftLongScore;
 
 /**
  * Each step's sampled neighbourhood, scored as one batch through the search context, and the graded score the solver
  * reads from it. The neighbourhood of a set: restoring each lesioned region, lesioning {@code additions} intact
- * regions drawn at random, and {@code swaps} random swaps (one lesioned region restored, one intact one lesioned).
+ * regions drawn from the ranked pool or at random ({@link RankedPool#draw}), and {@code swaps} swaps (a random
+ * lesioned region restored, an intact one drawn the same way lesioned).
  * The hard score is how far a set is from critical: its correct samples above the most a critical set may have (times
  * 1000), plus, while it is not critical, its mean true-class probability (in thousandths), so the solver has something
- * to climb; the soft score is minus the set's size. Only the current step's scores are kept in memory.
+ * to climb; the medium score is minus the set's size; the soft score is how firmly the set collapses the decoder
+ * (its correct samples, then its mean true-class probability, fewer and lower better), so that among critical sets
+ * of one size the solver keeps the one furthest below the collapse threshold, which leaves the most room to remove
+ * further regions. Only the current step's scores are kept in memory.
  */
 final class Neighbourhood {
     private final SearchContext ctx;
     private final SplittableRandom rng;
+    private final RankedPool pool;
     private final int additions;
     private final int swaps;
     private final int limit;
@@ -30,9 +36,10 @@ final class Neighbourhood {
     private int batches;
     private long batchedSets;
 
-    Neighbourhood(SearchContext ctx, SplittableRandom rng, int additions, int swaps) {
+    Neighbourhood(SearchContext ctx, SplittableRandom rng, RankedPool pool, int additions, int swaps) {
         this.ctx = ctx;
         this.rng = rng;
+        this.pool = pool;
         this.additions = additions;
         this.swaps = swaps;
         this.limit = ctx.maxCorrectWhenCritical();
@@ -52,14 +59,15 @@ final class Neighbourhood {
             moves.add(new FlipMove(List.of(v)));
             sets.add(current.without(v.position()));
         }
+        List<RegionVar> all = plan.getRegions();
         for (int i = 0; i < Math.min(additions, off.size()); i++) {
-            RegionVar v = off.get(rng.nextInt(off.size()));
+            RegionVar v = all.get(pool.draw(current, rng));
             moves.add(new FlipMove(List.of(v)));
             sets.add(current.with(v.position()));
         }
         for (int i = 0; i < swaps && !on.isEmpty() && !off.isEmpty(); i++) {
             RegionVar a = on.get(rng.nextInt(on.size()));
-            RegionVar b = off.get(rng.nextInt(off.size()));
+            RegionVar b = all.get(pool.draw(current, rng));
             moves.add(new FlipMove(List.of(a, b)));
             sets.add(current.without(a.position()).with(b.position()));
         }
@@ -75,7 +83,7 @@ final class Neighbourhood {
     }
 
     /** The graded score of the plan's set, from this step's batch or scored alone (e.g. the first set). */
-    HardSoftLongScore score(LesionPlan plan) {
+    HardMediumSoftLongScore score(LesionPlan plan) {
         RegionSet s = plan.set();
         SetScore q = cache.get(s);
         if (q == null) {
@@ -84,8 +92,9 @@ final class Neighbourhood {
         }
         boolean critical = !s.isEmpty() && ctx.critical(q);
         long excess = Math.max(0, q.correct() - limit);
-        long fine = critical ? 0 : Math.round(999 * q.meanTrueClassProbability());
-        return HardSoftLongScore.of(-(excess * 1000 + fine), -s.size());
+        long fine = Math.round(999 * q.meanTrueClassProbability());
+        long depth = q.correct() * 1000L + fine;
+        return HardMediumSoftLongScore.of(critical ? 0 : -(excess * 1000 + fine), -s.size(), -depth);
     }
 
     /** Steps whose neighbourhood was scored, and the mean batch size. */
