@@ -49,6 +49,8 @@ public final class SearchContext {
     private int tracePosition;
     private long lastSaveNanos = System.nanoTime();
     private int batches;
+    private long batchedSets;
+    private int largestBatch;
     private double reserve;
 
     /**
@@ -176,6 +178,16 @@ public final class SearchContext {
         return batches;
     }
 
+    /** Sets asked for in this session's batches, stored, replayed or decoded alike. */
+    public long batchedSets() {
+        return batchedSets;
+    }
+
+    /** The largest batch asked for in this session. */
+    public int largestBatch() {
+        return largestBatch;
+    }
+
     /** The underlying scorer (for counts of decoded, stored and replayed sets). */
     public LesionScorer scorer() {
         return scorer;
@@ -186,6 +198,8 @@ public final class SearchContext {
      * spent, and after scoring the prefix that fits when the budget is spent.
      */
     public List<LesionScorer.Scored> score(List<RegionSet> sets) {
+        batchedSets += sets.size();
+        largestBatch = Math.max(largestBatch, sets.size());
         if (timeUp()) {
             // Sets this run already paid for cost no time: a resumed run replays them to its frontier, then stops.
             List<LesionScorer.Scored> replayed = scorer.scorePaid(sets);

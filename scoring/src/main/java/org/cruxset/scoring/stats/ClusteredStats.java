@@ -43,6 +43,41 @@ public final class ClusteredStats {
         return new double[] {quantile(acc, tail), quantile(acc, 1 - tail)};
     }
 
+    /**
+     * Percentile interval {@code [low, high]} at {@code level} of the paired difference in accuracy,
+     * {@code accuracy(first) − accuracy(second)} on the same samples (e.g. intact minus lesioned: the drop), from
+     * {@code resamples} bootstrap resamples of whole subjects with replacement (each resampled subject brings both
+     * conditions of all its samples, so the pairing and the clustering are kept). Seeded.
+     */
+    public static double[] pairedDifferenceBootstrap(boolean[] first, boolean[] second, int[] subjectOf, int subjects,
+                                                     int resamples, long seed, double level) {
+        if (first.length != second.length || first.length != subjectOf.length) {
+            throw new IllegalArgumentException("one outcome per sample in both conditions and one subject each: "
+                    + first.length + ", " + second.length + ", " + subjectOf.length);
+        }
+        int[] n = new int[subjects];
+        int[] d = new int[subjects];
+        for (int s = 0; s < first.length; s++) {
+            n[subjectOf[s]]++;
+            d[subjectOf[s]] += (first[s] ? 1 : 0) - (second[s] ? 1 : 0);
+        }
+        SplittableRandom rng = new SplittableRandom(seed);
+        double[] diff = new double[resamples];
+        for (int b = 0; b < resamples; b++) {
+            long tn = 0;
+            long td = 0;
+            for (int i = 0; i < subjects; i++) {
+                int j = rng.nextInt(subjects);
+                tn += n[j];
+                td += d[j];
+            }
+            diff[b] = tn == 0 ? 0 : (double) td / tn;
+        }
+        Arrays.sort(diff);
+        double tail = (1 - level) / 2;
+        return new double[] {quantile(diff, tail), quantile(diff, 1 - tail)};
+    }
+
     /** An empirical chance level: mean and upper quantile of accuracy under label permutation, and the p-value. */
     public record PermutationChance(double mean, double upper, double pValue, int permutations) {
     }

@@ -268,6 +268,10 @@ public final class SearchCommand implements Callable<Integer> {
                         + "replayed %d already paid; %.1f s of search.%n", r.status(), r.stopMessage(), r.charged(),
                 budget == null ? "" : " of " + budget, session.scorer().decodedCount(), session.scorer().storedCount(),
                 session.scorer().replayedCount(), r.elapsedSeconds());
+        if (r.batches() > 0) {
+            pw.printf("Batches: %d sent to the scorer, %.1f sets each on average, %d at most.%n", r.batches(),
+                    (double) r.batchedSets() / r.batches(), r.largestBatch());
+        }
         if (r.resumed()) {
             pw.printf("Resumed: %.1f s of search were spent in earlier sessions of this run%s.%n", r.elapsedBeforeSeconds(),
                     hours == null ? "" : ", of the " + hours + " h allowed");
