@@ -118,6 +118,48 @@ class EndToEndTest {
         assertEquals(decoyLesion.correct(), ort.scores().get(1).correct());
     }
 
+    // Must show (scan): positive and negative controls from the decoder's own truth (its single-region lesions on the
+    // search part, in truth.json). The planted-pool region with the largest single drop is flagged significant after
+    // Holm over all regions; the redundant group's members that are individually dispensable are not critical, and each
+    // drops accuracy less than the positive control.
+    @Test
+    void aScanFlagsThePositiveControlAndNotTheDispensableRedundantMembers() throws java.io.IOException {
+        Path truth = cohortDir.resolve(TruthFile.NAME);
+        com.fasterxml.jackson.databind.JsonNode t = TruthFile.read(truth);
+        java.util.Map<String, Integer> singleCorrect = new java.util.HashMap<>();
+        java.util.Map<String, Boolean> singleCritical = new java.util.HashMap<>();
+        for (com.fasterxml.jackson.databind.JsonNode s : t.get("decoder").get("sets")) {
+            if (s.get("regions").size() == 1) {
+                String region = s.get("regions").get(0).asText();
+                singleCorrect.put(region, s.get("correct").asInt());
+                singleCritical.put(region, s.get("critical").get("binomial:0.05").asBoolean());
+            }
+        }
+        String positive = TruthFile.pool(truth).stream().min(java.util.Comparator.comparingInt(singleCorrect::get))
+                .orElseThrow();
+        List<String> dispensable = new ArrayList<>();
+        for (com.fasterxml.jackson.databind.JsonNode r : t.get("designed").get("redundant_group").get("regions")) {
+            if (!singleCritical.get(r.asText())) {
+                dispensable.add(r.asText());
+            }
+        }
+        assertFalse(dispensable.isEmpty(), "the CI cohort's redundant group has individually dispensable members");
+        Path out = dir.resolve("scan");
+        Cli.Run r = Cli.run("scan", "--model", model.toString(), "--cohort", cohortDir.toString(), "--out",
+                out.toString(), "--threads", "2").requireSuccess();
+        java.util.Map<String, java.util.Map<String, String>> rows = ScanCommandTest.readScan(out.resolve("scan-regions.tsv"));
+        java.util.Map<String, String> pos = rows.get(positive);
+        assertEquals("true", pos.get("significant"), "positive control " + positive + ":\n" + r.out());
+        assertEquals(singleCorrect.get(positive), (int) Math.round(Double.parseDouble(pos.get("accuracy"))
+                * Integer.parseInt(pos.get("n"))), "the scan scores the truth's part");
+        for (String d : dispensable) {
+            java.util.Map<String, String> row = rows.get(d);
+            assertEquals("false", row.get("critical"), d);
+            assertTrue(Double.parseDouble(row.get("drop")) < Double.parseDouble(pos.get("drop")),
+                    d + " drops " + row.get("drop") + ", the positive control " + positive + " " + pos.get("drop"));
+        }
+    }
+
     // Must show: on the CI cohort, grow+prune (and genetic) find a critical set no larger than the smallest in the
     // decoder's own truth on the search part, and say whether the confirmation part confirms it.
     @org.junit.jupiter.params.ParameterizedTest

@@ -133,4 +133,14 @@ public record ModelInputs(InputBatch batch, int[] labels, List<String> sampleIds
     public int size() {
         return labels.length;
     }
+
+    /** Each sample's subject as an index in [0, number of subjects), numbered in order of first appearance. */
+    public int[] subjectIndex() {
+        java.util.Map<String, Integer> idx = new java.util.HashMap<>();
+        int[] out = new int[size()];
+        for (int s = 0; s < out.length; s++) {
+            out[s] = idx.computeIfAbsent(subjects.get(s), k -> idx.size());
+        }
+        return out;
+    }
 }

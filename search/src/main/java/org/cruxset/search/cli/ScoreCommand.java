@@ -2,9 +2,7 @@ package org.cruxset.search.cli;
 
 import java.io.PrintWriter;
 import java.util.ArrayList;
-import java.util.HashMap;
 import java.util.List;
-import java.util.Map;
 import java.util.concurrent.Callable;
 import org.cruxset.scoring.cohort.Atlas;
 import org.cruxset.scoring.cohort.Cohort;
@@ -120,7 +118,7 @@ public final class ScoreCommand implements Callable<Integer> {
                 part.name().substring(0, 1).toUpperCase(java.util.Locale.ROOT) + part.name().substring(1), in.size(),
                 part.subjects(), part.intact().score().chance(),
                 part.name().equals(PartSplit.SEARCH) ? "" : "; never seen by a search");
-        int[] subjectOf = subjectIndex(in);
+        int[] subjectOf = in.subjectIndex();
         int subjects = 0;
         for (int v : subjectOf) {
             subjects = Math.max(subjects, v + 1);
@@ -163,14 +161,5 @@ public final class ScoreCommand implements Callable<Integer> {
             String.format("%.3f-%.3f", sc.wilsonLow(), sc.wilsonHigh()), boot, String.format("%.3f", sc.balancedAccuracy()),
             String.format("%.3f", sc.meanTrueClassProbability()), String.format("%.3g", sc.pValue()), perm,
             size == 0 ? "-" : critical ? "CRITICAL" : "no"};
-    }
-
-    private static int[] subjectIndex(ModelInputs in) {
-        Map<String, Integer> idx = new HashMap<>();
-        int[] out = new int[in.size()];
-        for (int s = 0; s < in.size(); s++) {
-            out[s] = idx.computeIfAbsent(in.subjects().get(s), k -> idx.size());
-        }
-        return out;
     }
 }
