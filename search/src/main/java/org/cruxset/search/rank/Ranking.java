@@ -49,6 +49,11 @@ public record Ranking(Kind kind, List<String> units, List<Double> values, List<S
 
     /** The atlas-position sets of the prefixes of length 1 .. size(), nested, each the union of its units. */
     public List<RegionSet> prefixes(Atlas atlas) {
+        return prefixes(units, atlas);
+    }
+
+    /** The atlas-position sets of the prefixes of {@code units} (names or {@code network:NAME}), nested. */
+    public static List<RegionSet> prefixes(List<String> units, Atlas atlas) {
         List<RegionSet> out = new ArrayList<>(units.size());
         RegionSet acc = RegionSet.empty(atlas.size());
         for (String u : units) {
