@@ -163,6 +163,11 @@ public final class LesionScorer {
         return score(List.of(set)).get(0);
     }
 
+    /** What lesioned regions are replaced with on this scorer's inputs. */
+    public org.cruxset.scoring.decoder.LesionFill fill() {
+        return fill;
+    }
+
     /**
      * Scores {@code sets} (in order; duplicates allowed); fails before decoding anything when the sets this run has
      * not yet paid for do not fit the budget.

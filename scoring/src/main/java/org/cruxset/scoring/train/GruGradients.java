@@ -2,7 +2,8 @@ package org.cruxset.scoring.train;
 
 /**
  * Double-precision forward pass and backpropagation through time of a {@link GruParameters} classifier for one
- * sample at a time. An instance owns its scratch buffers and is not thread-safe: use one per thread.
+ * sample at a time, in either gate form per layer ({@code linear_before_reset} 0 or 1), to the parameters (training)
+ * and to the inputs (saliency). An instance owns its scratch buffers and is not thread-safe: use one per thread.
  */
 public final class GruGradients {
     private final GruParameters p;
@@ -13,6 +14,7 @@ public final class GruGradients {
     private final double[][] zs;
     private final double[][] rs;
     private final double[][] cs;
+    private final double[][] us;   // linear_before_reset = 1: the candidate's recurrent term R_h h + Rb_h
     private final double[][] dy;   // gradient w.r.t. this layer's outputs h_1..h_T
     private final double[] logits;
     private final double[] prob;
@@ -28,6 +30,7 @@ public final class GruGradients {
         zs = new double[layers][];
         rs = new double[layers][];
         cs = new double[layers][];
+        us = new double[layers][];
         dy = new double[layers][];
         wt = new double[layers][];
         rtT = new double[layers][];
@@ -37,6 +40,7 @@ public final class GruGradients {
             zs[l] = new double[maxLength * h];
             rs[l] = new double[maxLength * h];
             cs[l] = new double[maxLength * h];
+            us[l] = params.linearBeforeReset[l] ? new double[maxLength * h] : null;
             dy[l] = new double[maxLength * h];
             wt[l] = new double[params.inputs[l] * 3 * h];
             rtT[l] = new double[h * 3 * h];
@@ -109,6 +113,16 @@ public final class GruGradients {
                         b[g] += rT[base + g] * hj;
                     }
                 }
+                boolean lbr = p.linearBeforeReset[l];
+                if (lbr) {
+                    for (int j = 0; j < h; j++) {
+                        double hj = hl[hp + j];
+                        int base = j * g3;
+                        for (int g = 2 * h; g < g3; g++) {
+                            b[g] += rT[base + g] * hj;
+                        }
+                    }
+                }
                 for (int j = 0; j < h; j++) {
                     double z = sigmoid(a[j] + b[j]);
                     double r = sigmoid(a[h + j] + b[h + j]);
@@ -116,11 +130,18 @@ public final class GruGradients {
                     rs[l][t * h + j] = r;
                     q[j] = r * hl[hp + j];
                 }
-                for (int j = 0; j < h; j++) {
-                    double qj = q[j];
-                    int base = j * g3;
-                    for (int g = 2 * h; g < g3; g++) {
-                        b[g] += rT[base + g] * qj;
+                if (lbr) {
+                    for (int j = 0; j < h; j++) {
+                        us[l][t * h + j] = b[2 * h + j];
+                        b[2 * h + j] *= rs[l][t * h + j];
+                    }
+                } else {
+                    for (int j = 0; j < h; j++) {
+                        double qj = q[j];
+                        int base = j * g3;
+                        for (int g = 2 * h; g < g3; g++) {
+                            b[g] += rT[base + g] * qj;
+                        }
                     }
                 }
                 int hn = (t + 1) * h;
@@ -161,6 +182,40 @@ public final class GruGradients {
      * {@code grad} (laid out like the parameters) and returns the loss.
      */
     public double backward(float[] x, int length, int label, double[] grad) {
+        double[] dLogits = new double[p.classes];
+        for (int k = 0; k < p.classes; k++) {
+            dLogits[k] = prob[k] - (k == label ? 1 : 0);
+        }
+        backprop(x, length, dLogits, grad, null);
+        return -Math.log(Math.max(prob[label], 1e-300));
+    }
+
+    /** The class scores (pre-softmax) of the last {@link #forward} call. */
+    public double[] logits() {
+        return logits.clone();
+    }
+
+    /**
+     * The gradient of class {@code target}'s score of the last {@link #forward} call with respect to every input
+     * value, written into {@code dx} (time-major, {@code length × inputs}; overwritten): the pre-softmax score, or
+     * with {@code logProbability} its log-probability. Returns that score.
+     */
+    public double inputGradient(float[] x, int length, int target, boolean logProbability, double[] dx) {
+        double[] dLogits = new double[p.classes];
+        for (int k = 0; k < p.classes; k++) {
+            dLogits[k] = (k == target ? 1 : 0) - (logProbability ? prob[k] : 0);
+        }
+        java.util.Arrays.fill(dx, 0, length * p.inputs[0], 0.0);
+        backprop(x, length, dLogits, null, dx);
+        return logProbability ? Math.log(Math.max(prob[target], 1e-300)) : logits[target];
+    }
+
+    /**
+     * Backpropagates {@code dLogits} (the gradient of some scalar with respect to the class scores) through the last
+     * {@link #forward} call, adding parameter gradients to {@code grad} and input gradients to {@code dx} (either may
+     * be null).
+     */
+    private void backprop(float[] x, int length, double[] dLogits, double[] grad, double[] dx) {
         double[] v = p.values;
         int top = layers - 1;
         int hTop = p.hiddens[top];
@@ -169,11 +224,15 @@ public final class GruGradients {
         }
         int last = length * hTop;
         for (int k = 0; k < p.classes; k++) {
-            double d = prob[k] - (k == label ? 1 : 0);
-            grad[p.offBias + k] += d;
+            double d = dLogits[k];
             int base = p.offOut + k * hTop;
+            if (grad != null) {
+                grad[p.offBias + k] += d;
+            }
             for (int j = 0; j < hTop; j++) {
-                grad[base + j] += d * hs[top][last + j];
+                if (grad != null) {
+                    grad[base + j] += d * hs[top][last + j];
+                }
                 dy[top][(length - 1) * hTop + j] += d * v[base + j];
             }
         }
@@ -181,9 +240,11 @@ public final class GruGradients {
             int h = p.hiddens[l];
             int in = p.inputs[l];
             int g3 = 3 * h;
+            boolean lbr = p.linearBeforeReset[l];
             double[] hl = hs[l];
             double[] dh = new double[h];
-            double[] da = new double[g3];
+            double[] da = new double[g3];   // gradient at the input pre-activations W x + Wb of each gate
+            double[] dbh = new double[h];   // gradient at the candidate's recurrent pre-activation
             double[] dq = new double[h];
             double[] q = new double[h];
             double[] below = l == 0 ? null : hs[l - 1];
@@ -207,25 +268,51 @@ public final class GruGradients {
                     dh[j] = dh[j] * z; // direct path to h_t
                     q[j] = rs[l][hp + j] * hprev;
                 }
-                // candidate: dq = Rh^T da_c ; dRh += da_c q^T
                 java.util.Arrays.fill(dq, 0.0);
-                for (int g = 2 * h; g < g3; g++) {
-                    double dg = da[g];
-                    if (dg == 0) {
-                        continue;
-                    }
-                    int base = oR + g * h;
+                if (lbr) {
+                    // c = tanh(a_h + r * u), u = R_h h + Rb_h: du = dc' r, dr = dc' u; dh += R_h^T du
                     for (int j = 0; j < h; j++) {
-                        dq[j] += v[base + j] * dg;
-                        grad[base + j] += dg * q[j];
+                        double r = rs[l][hp + j];
+                        dbh[j] = da[2 * h + j] * r;
+                        double dr = da[2 * h + j] * us[l][hp + j];
+                        da[h + j] = dr * r * (1 - r);
                     }
-                }
-                for (int j = 0; j < h; j++) {
-                    double r = rs[l][hp + j];
-                    double hprev = hl[hp + j];
-                    double dr = dq[j] * hprev;
-                    dh[j] += dq[j] * r;
-                    da[h + j] = dr * r * (1 - r);
+                    for (int g = 2 * h; g < g3; g++) {
+                        double dg = dbh[g - 2 * h];
+                        if (dg == 0) {
+                            continue;
+                        }
+                        int base = oR + g * h;
+                        for (int j = 0; j < h; j++) {
+                            dh[j] += v[base + j] * dg;
+                            if (grad != null) {
+                                grad[base + j] += dg * hl[hp + j];
+                            }
+                        }
+                    }
+                } else {
+                    // c = tanh(a_h + R_h (r * h) + Rb_h): dq = R_h^T dc'; dR_h += dc' q^T
+                    for (int g = 2 * h; g < g3; g++) {
+                        double dg = da[g];
+                        dbh[g - 2 * h] = dg;
+                        if (dg == 0) {
+                            continue;
+                        }
+                        int base = oR + g * h;
+                        for (int j = 0; j < h; j++) {
+                            dq[j] += v[base + j] * dg;
+                            if (grad != null) {
+                                grad[base + j] += dg * q[j];
+                            }
+                        }
+                    }
+                    for (int j = 0; j < h; j++) {
+                        double r = rs[l][hp + j];
+                        double hprev = hl[hp + j];
+                        double dr = dq[j] * hprev;
+                        dh[j] += dq[j] * r;
+                        da[h + j] = dr * r * (1 - r);
+                    }
                 }
                 // z and r: dh += R^T da ; dR += da h^T
                 for (int g = 0; g < 2 * h; g++) {
@@ -236,15 +323,18 @@ public final class GruGradients {
                     int base = oR + g * h;
                     for (int j = 0; j < h; j++) {
                         dh[j] += v[base + j] * dg;
-                        grad[base + j] += dg * hl[hp + j];
+                        if (grad != null) {
+                            grad[base + j] += dg * hl[hp + j];
+                        }
                     }
                 }
-                // biases
-                for (int g = 0; g < g3; g++) {
-                    grad[p.offWb[l] + g] += da[g];
-                    grad[p.offRb[l] + g] += da[g];
+                if (grad != null) {
+                    for (int g = 0; g < g3; g++) {
+                        grad[p.offWb[l] + g] += da[g];
+                        grad[p.offRb[l] + g] += g < 2 * h ? da[g] : dbh[g - 2 * h];
+                    }
                 }
-                // input weights and the gradient into the layer below
+                // input weights, the gradient into the layer below, or into the inputs
                 for (int g = 0; g < g3; g++) {
                     double dg = da[g];
                     if (dg == 0) {
@@ -253,21 +343,29 @@ public final class GruGradients {
                     int base = oW + g * in;
                     if (l == 0) {
                         int xo = t * in;
-                        for (int i = 0; i < in; i++) {
-                            grad[base + i] += dg * x[xo + i];
+                        if (grad != null) {
+                            for (int i = 0; i < in; i++) {
+                                grad[base + i] += dg * x[xo + i];
+                            }
+                        }
+                        if (dx != null) {
+                            for (int i = 0; i < in; i++) {
+                                dx[xo + i] += v[base + i] * dg;
+                            }
                         }
                     } else {
                         int xo = (t + 1) * in;
                         int dOff = t * in;
                         for (int i = 0; i < in; i++) {
-                            grad[base + i] += dg * below[xo + i];
+                            if (grad != null) {
+                                grad[base + i] += dg * below[xo + i];
+                            }
                             dBelow[dOff + i] += v[base + i] * dg;
                         }
                     }
                 }
             }
         }
-        return -Math.log(Math.max(prob[label], 1e-300));
     }
 
     private static double sigmoid(double x) {

@@ -9,7 +9,8 @@ import org.cruxset.scoring.gru.GruNetwork;
 /**
  * The trainable parameters of a GRU classifier in double precision, all in one flat array so that optimisers and
  * gradient buffers are plain {@code double[]}. Layout per layer (ONNX order, gates z, r, h): W [3H×I], R [3H×H],
- * Wb [3H], Rb [3H]; then readout [K×H] and bias [K]. Uses {@code linear_before_reset = 0}.
+ * Wb [3H], Rb [3H]; then readout [K×H] and bias [K]. Each layer has its gate form ({@code linear_before_reset}):
+ * training uses 0; {@link #of(GruNetwork)} keeps whatever a loaded network has, for its gradients.
  */
 public final class GruParameters {
     final int[] inputs;
@@ -22,10 +23,20 @@ public final class GruParameters {
     final int offOut;
     final int offBias;
     final double[] values;
+    final boolean[] linearBeforeReset;
 
-    /** A zeroed parameter vector for the given layer sizes. */
+    /** A zeroed parameter vector for the given layer sizes, every layer with {@code linear_before_reset = 0}. */
     public GruParameters(int inputs, int[] hiddens, int classes) {
+        this(inputs, hiddens, classes, new boolean[hiddens.length]);
+    }
+
+    private GruParameters(int inputs, int[] hiddens, int classes, boolean[] linearBeforeReset) {
         int layers = hiddens.length;
+        if (linearBeforeReset.length != layers) {
+            throw new IllegalArgumentException("one gate form per layer: " + layers + " layers, "
+                    + linearBeforeReset.length + " forms");
+        }
+        this.linearBeforeReset = linearBeforeReset.clone();
         if (layers < 1) {
             throw new IllegalArgumentException("at least one GRU layer is needed");
         }
@@ -58,9 +69,47 @@ public final class GruParameters {
         values = new double[off];
     }
 
-    /** A copy with the same shape and values. */
+    /** The parameters of {@code network} in double precision, each layer keeping its gate form. */
+    public static GruParameters of(GruNetwork network) {
+        List<GruLayer> ls = network.layers();
+        int[] hiddens = new int[ls.size()];
+        boolean[] lbr = new boolean[ls.size()];
+        for (int l = 0; l < hiddens.length; l++) {
+            hiddens[l] = ls.get(l).hidden();
+            lbr[l] = ls.get(l).linearBeforeReset();
+        }
+        GruParameters p = new GruParameters(network.inputs(), hiddens, network.classes(), lbr);
+        for (int l = 0; l < hiddens.length; l++) {
+            GruLayer g = ls.get(l);
+            copy(g.w(), p.values, p.offW[l]);
+            copy(g.r(), p.values, p.offR[l]);
+            copy(g.wb(), p.values, p.offWb[l]);
+            copy(g.rb(), p.values, p.offRb[l]);
+        }
+        copy(network.readout(), p.values, p.offOut);
+        copy(network.bias(), p.values, p.offBias);
+        return p;
+    }
+
+    private static void copy(float[] from, double[] to, int off) {
+        for (int i = 0; i < from.length; i++) {
+            to[off + i] = from[i];
+        }
+    }
+
+    /** Whether layer {@code l} applies the reset gate after the recurrent product ({@code linear_before_reset = 1}). */
+    public boolean linearBeforeReset(int l) {
+        return linearBeforeReset[l];
+    }
+
+    /** Number of model inputs. */
+    public int inputs() {
+        return inputs[0];
+    }
+
+    /** A copy with the same shape, gate forms and values. */
     public GruParameters copy() {
-        GruParameters p = new GruParameters(inputs[0], hiddens, classes);
+        GruParameters p = new GruParameters(inputs[0], hiddens, classes, linearBeforeReset);
         System.arraycopy(values, 0, p.values, 0, values.length);
         return p;
     }
@@ -111,7 +160,7 @@ public final class GruParameters {
             int h = hiddens[l];
             int in = inputs[l];
             layers.add(new GruLayer(in, h, toFloat(offW[l], 3 * h * in), toFloat(offR[l], 3 * h * h),
-                    toFloat(offWb[l], 3 * h), toFloat(offRb[l], 3 * h), false));
+                    toFloat(offWb[l], 3 * h), toFloat(offRb[l], 3 * h), linearBeforeReset[l]));
         }
         int h = hiddens[layers() - 1];
         return new GruNetwork(layers, classes, toFloat(offOut, classes * h), toFloat(offBias, classes));
