@@ -7,16 +7,18 @@ import java.util.Objects;
  * Attributions of held-out samples: one value per input value ({@code maps[s][t * regions + i]}, time-major like
  * the model's inputs) when they come from gradients, or one value per region ({@code maps[s][i]}, with
  * {@code perTimePoint} false) when they come from finite differences of whole series; what they attribute (the
- * class score or its log-probability, for each sample's true class); and for integrated gradients the completeness
- * gap of each sample, |Σ attributions − (f(x) − f(baseline))| / |f(x) − f(baseline)| (NaN otherwise).
+ * class score or its log-probability, for each sample's true class); and for integrated gradients each sample's
+ * change {@code f(x) − f(baseline)} and its completeness gap {@code |Σ attributions − (f(x) − f(baseline))|} (NaN
+ * otherwise).
  */
 public record Attributions(String method, String target, int regions, int[] lengths, float[][] maps,
-                           boolean perTimePoint, double[] completenessGap) {
+                           boolean perTimePoint, double[] change, double[] completenessGap) {
     public Attributions {
         Objects.requireNonNull(method, "method");
         Objects.requireNonNull(target, "target");
-        if (maps.length != lengths.length || completenessGap.length != lengths.length) {
-            throw new IllegalArgumentException("one map, length and gap per sample");
+        if (maps.length != lengths.length || completenessGap.length != lengths.length
+                || change.length != lengths.length) {
+            throw new IllegalArgumentException("one map, length, change and gap per sample");
         }
     }
 
@@ -73,28 +75,33 @@ public record Attributions(String method, String target, int regions, int[] leng
         return out;
     }
 
-    /** The largest completeness gap (NaN unless integrated gradients). */
-    public double maxCompletenessGap() {
+    /**
+     * The completeness gap over all samples, Σ|gap| / Σ|f(x) − f(baseline)| (NaN unless integrated gradients): a
+     * per-sample ratio is unstable where the baseline barely changes the output.
+     */
+    public double relativeCompletenessGap() {
+        double gap = 0;
+        double change = 0;
+        for (int s = 0; s < completenessGap.length; s++) {
+            if (Double.isNaN(completenessGap[s])) {
+                return Double.NaN;
+            }
+            gap += completenessGap[s];
+            change += Math.abs(this.change[s]);
+        }
+        return gap / Math.max(change, 1e-300);
+    }
+
+    /** The largest per-sample gap relative to that sample's change (NaN unless integrated gradients). */
+    public double maxSampleGap() {
         double max = Double.NaN;
-        for (double g : completenessGap) {
+        for (int s = 0; s < completenessGap.length; s++) {
+            double g = completenessGap[s] / Math.max(Math.abs(change[s]), 1e-12);
             if (!Double.isNaN(g)) {
                 max = Double.isNaN(max) ? g : Math.max(max, g);
             }
         }
         return max;
-    }
-
-    /** The mean completeness gap (NaN unless integrated gradients). */
-    public double meanCompletenessGap() {
-        double sum = 0;
-        int n = 0;
-        for (double g : completenessGap) {
-            if (!Double.isNaN(g)) {
-                sum += g;
-                n++;
-            }
-        }
-        return n == 0 ? Double.NaN : sum / n;
     }
 
     @Override

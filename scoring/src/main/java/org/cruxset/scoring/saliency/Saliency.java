@@ -93,6 +93,7 @@ public final class Saliency {
         int regions = batch.regions();
         float[][] maps = new float[n][];
         double[] gaps = new double[n];
+        double[] changes = new double[n];
         int[] lengths = new int[n];
         ConcurrentLinkedQueue<GruGradients> pool = new ConcurrentLinkedQueue<>();
         InputMask all = new InputMask(RegionSet.all(regions), fill);
@@ -108,6 +109,7 @@ public final class Saliency {
             double[] acc = new double[len * regions];
             double[] dx = new double[len * regions];
             gaps[s] = Double.NaN;
+            changes[s] = Double.NaN;
             switch (settings.method()) {
                 case GRADIENT, TIMES_INPUT -> {
                     g.forward(x, len);
@@ -141,7 +143,8 @@ public final class Saliency {
                     double top = score(g, x, len, targets[s], settings.logProbability());
                     double bottom = score(g, base, len, targets[s], settings.logProbability());
                     double delta = top - bottom;
-                    gaps[s] = Math.abs(sum - delta) / Math.max(Math.abs(delta), 1e-12);
+                    gaps[s] = Math.abs(sum - delta);
+                    changes[s] = delta;
                 }
                 case SMOOTH -> {
                     float lo = Float.POSITIVE_INFINITY;
@@ -173,7 +176,8 @@ public final class Saliency {
             maps[s] = m;
             pool.add(g);
         });
-        return new Attributions(settings.method().label(), settings.target(), regions, lengths, maps, true, gaps);
+        return new Attributions(settings.method().label(), settings.target(), regions, lengths, maps, true, changes,
+                gaps);
     }
 
     private static double score(GruGradients g, float[] x, int len, int target, boolean logProbability) {
@@ -213,7 +217,8 @@ public final class Saliency {
                 maps[s][r] = (float) ((up - down) / (2 * settings.step()));
             }
         }
-        return new Attributions(Method.DIFFERENCES.label(), settings.target(), regions, lengths, maps, false, gaps);
+        return new Attributions(Method.DIFFERENCES.label(), settings.target(), regions, lengths, maps, false, gaps,
+                gaps);
     }
 
     /** A fill that keeps a region's series and adds a constant to every time point. */

@@ -108,7 +108,8 @@ class SaliencyTest {
             InputBatch batch = randomBatch(rng, N, new int[] {8, 12, 5});
             Attributions a = Saliency.gradients(net, batch, new int[] {0, 1, 3}, LesionFill.ZERO,
                     new Saliency.Settings(Saliency.Method.INTEGRATED, false, 256, 1, 0, 1, 1e-2, 2));
-            assertTrue(a.maxCompletenessGap() <= 0.01, f + ": completeness gap " + a.maxCompletenessGap());
+            assertTrue(a.maxSampleGap() <= 0.01, f + ": largest completeness gap of a sample " + a.maxSampleGap());
+            assertTrue(a.relativeCompletenessGap() <= 0.01, f + ": completeness gap " + a.relativeCompletenessGap());
         }
     }
 
