@@ -9,6 +9,7 @@ import org.cruxset.scoring.decoder.Decoder;
 import org.cruxset.scoring.decoder.InputBatch;
 import org.cruxset.scoring.decoder.InputMask;
 import org.cruxset.scoring.decoder.LesionFill;
+import org.cruxset.scoring.gru.GruInputGradients;
 import org.cruxset.scoring.gru.GruNetwork;
 import org.cruxset.scoring.internal.Parallel;
 import org.cruxset.scoring.lesion.RegionSet;
@@ -56,10 +57,11 @@ public final class Saliency {
     /**
      * Settings: the method; whether to attribute the log-probability instead of the class score; integrated-gradient
      * steps; SmoothGrad draws and noise (standard deviation as a share of each sample's input range) and seed; the
-     * finite-difference step; threads.
+     * finite-difference step; threads; and whether to use the double-precision path ({@link GruGradients}, for
+     * tests) instead of the float fast path ({@link GruInputGradients}).
      */
     public record Settings(Method method, boolean logProbability, int steps, int draws, double noise, long seed,
-                           double step, int threads) {
+                           double step, int threads, boolean doublePath) {
         public Settings {
             if (steps < 1 || draws < 1 || threads < 1) {
                 throw new IllegalArgumentException("steps, draws and threads must be at least 1");
@@ -87,6 +89,9 @@ public final class Saliency {
                                          Settings settings) {
         if (settings.method() == Method.DIFFERENCES) {
             throw new IllegalArgumentException("finite differences go through differences(), not gradients()");
+        }
+        if (!settings.doublePath()) {
+            return fast(network, batch, targets, fill, settings);
         }
         GruParameters params = GruParameters.of(network);
         int n = batch.size();
@@ -175,6 +180,125 @@ public final class Saliency {
             }
             maps[s] = m;
             pool.add(g);
+        });
+        return new Attributions(settings.method().label(), settings.target(), regions, lengths, maps, true, changes,
+                gaps);
+    }
+
+    /** Samples per block of the fast path: the block shares each weight load across its samples. */
+    private static final int BLOCK = 8;
+
+    private static Attributions fast(GruNetwork network, InputBatch batch, int[] targets, LesionFill fill,
+                                     Settings settings) {
+        GruInputGradients grads = new GruInputGradients(network);
+        int n = batch.size();
+        int regions = batch.regions();
+        float[][] maps = new float[n][];
+        double[] gaps = new double[n];
+        double[] changes = new double[n];
+        int[] lengths = new int[n];
+        InputMask all = new InputMask(RegionSet.all(regions), fill);
+        int blocks = (n + BLOCK - 1) / BLOCK;
+        Parallel.forRange(blocks, settings.threads(), blk -> {
+            int from = blk * BLOCK;
+            int to = Math.min(n, from + BLOCK);
+            int bn = to - from;
+            float[][] x = new float[bn][];
+            int[] len = new int[bn];
+            int[] tg = new int[bn];
+            float[][] acc = new float[bn][];
+            float[][] dx = new float[bn][];
+            for (int b = 0; b < bn; b++) {
+                int s = from + b;
+                x[b] = batch.series(s);
+                len[b] = batch.length(s);
+                tg[b] = targets[s];
+                acc[b] = new float[len[b] * regions];
+                dx[b] = new float[len[b] * regions];
+                lengths[s] = len[b];
+                gaps[s] = Double.NaN;
+                changes[s] = Double.NaN;
+            }
+            boolean lp = settings.logProbability();
+            switch (settings.method()) {
+                case GRADIENT, TIMES_INPUT -> {
+                    grads.gradients(x, len, tg, lp, acc);
+                    if (settings.method() == Method.TIMES_INPUT) {
+                        for (int b = 0; b < bn; b++) {
+                            for (int i = 0; i < acc[b].length; i++) {
+                                acc[b][i] *= x[b][i];
+                            }
+                        }
+                    }
+                }
+                case INTEGRATED -> {
+                    float[][] base = new float[bn][];
+                    float[][] point = new float[bn][];
+                    for (int b = 0; b < bn; b++) {
+                        base[b] = new float[len[b] * regions];
+                        all.apply(batch, from + b, base[b]);
+                        point[b] = new float[len[b] * regions];
+                    }
+                    for (int k = 0; k < settings.steps(); k++) {
+                        float alpha = (float) ((k + 0.5) / settings.steps());
+                        for (int b = 0; b < bn; b++) {
+                            for (int i = 0; i < point[b].length; i++) {
+                                point[b][i] = base[b][i] + alpha * (x[b][i] - base[b][i]);
+                            }
+                        }
+                        grads.gradients(point, len, tg, lp, dx);
+                        for (int b = 0; b < bn; b++) {
+                            for (int i = 0; i < acc[b].length; i++) {
+                                acc[b][i] += dx[b][i];
+                            }
+                        }
+                    }
+                    double[] top = grads.gradients(x, len, tg, lp, dx);
+                    double[] bottom = grads.gradients(base, len, tg, lp, dx);
+                    for (int b = 0; b < bn; b++) {
+                        double sum = 0;
+                        for (int i = 0; i < acc[b].length; i++) {
+                            acc[b][i] *= (x[b][i] - base[b][i]) / settings.steps();
+                            sum += acc[b][i];
+                        }
+                        changes[from + b] = top[b] - bottom[b];
+                        gaps[from + b] = Math.abs(sum - changes[from + b]);
+                    }
+                }
+                case SMOOTH -> {
+                    float[][] point = new float[bn][];
+                    double[] sd = new double[bn];
+                    SplittableRandom[] rng = new SplittableRandom[bn];
+                    for (int b = 0; b < bn; b++) {
+                        float lo = Float.POSITIVE_INFINITY;
+                        float hi = Float.NEGATIVE_INFINITY;
+                        for (float v : x[b]) {
+                            lo = Math.min(lo, v);
+                            hi = Math.max(hi, v);
+                        }
+                        sd[b] = settings.noise() * (hi - lo);
+                        rng[b] = new SplittableRandom(settings.seed() * 0x9E3779B97F4A7C15L + from + b);
+                        point[b] = new float[len[b] * regions];
+                    }
+                    for (int k = 0; k < settings.draws(); k++) {
+                        for (int b = 0; b < bn; b++) {
+                            for (int i = 0; i < point[b].length; i++) {
+                                point[b][i] = (float) (x[b][i] + sd[b] * gaussian(rng[b]));
+                            }
+                        }
+                        grads.gradients(point, len, tg, lp, dx);
+                        for (int b = 0; b < bn; b++) {
+                            for (int i = 0; i < acc[b].length; i++) {
+                                acc[b][i] += dx[b][i] / settings.draws();
+                            }
+                        }
+                    }
+                }
+                default -> throw new IllegalStateException();
+            }
+            for (int b = 0; b < bn; b++) {
+                maps[from + b] = acc[b];
+            }
         });
         return new Attributions(settings.method().label(), settings.target(), regions, lengths, maps, true, changes,
                 gaps);

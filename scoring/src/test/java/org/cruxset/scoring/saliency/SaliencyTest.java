@@ -98,16 +98,53 @@ class SaliencyTest {
         return logProb ? Math.log(p[target]) : g.logits()[target];
     }
 
+    // The float fast path against the double path, for every native form, every gradient method and both targets.
+    @Test
+    void theFastPathAgreesWithTheDoublePath() {
+        Random rng = new Random(21);
+        for (Form f : forms()) {
+            GruNetwork net = randomNetwork(rng, N, f.hidden(), f.lbr(), K, 0.9);
+            int[] lengths = new int[19];
+            int[] targets = new int[lengths.length];
+            for (int i = 0; i < lengths.length; i++) {
+                lengths[i] = 3 + rng.nextInt(12);
+                targets[i] = rng.nextInt(K);
+            }
+            InputBatch batch = randomBatch(rng, N, lengths);
+            for (Saliency.Method m : List.of(Saliency.Method.GRADIENT, Saliency.Method.TIMES_INPUT,
+                    Saliency.Method.INTEGRATED, Saliency.Method.SMOOTH)) {
+                for (boolean logProb : new boolean[] {false, true}) {
+                    Attributions slow = Saliency.gradients(net, batch, targets, LesionFill.ZERO,
+                            new Saliency.Settings(m, logProb, 16, 4, 0.1, 5, 1e-2, 2, true));
+                    Attributions fast = Saliency.gradients(net, batch, targets, LesionFill.ZERO,
+                            new Saliency.Settings(m, logProb, 16, 4, 0.1, 5, 1e-2, 2, false));
+                    for (int s = 0; s < lengths.length; s++) {
+                        double scale = 0;
+                        for (float v : slow.maps()[s]) {
+                            scale = Math.max(scale, Math.abs(v));
+                        }
+                        for (int i = 0; i < slow.maps()[s].length; i++) {
+                            assertEquals(slow.maps()[s][i], fast.maps()[s][i], 1e-4 * Math.max(scale, 1e-3),
+                                    f + " " + m.label() + (logProb ? " log-probability" : "") + " sample " + s
+                                            + " value " + i);
+                        }
+                    }
+                }
+            }
+        }
+    }
+
     // Source: the completeness axiom of integrated gradients (Sundararajan, Taly & Yan 2017): attributions sum to
     // f(x) − f(baseline), up to the Riemann sum's error.
-    @Test
-    void integratedGradientsAreCompleteAt256Steps() {
+    @org.junit.jupiter.params.ParameterizedTest(name = "double path: {0}")
+    @org.junit.jupiter.params.provider.ValueSource(booleans = {true, false})
+    void integratedGradientsAreCompleteAt256Steps(boolean precise) {
         Random rng = new Random(9);
         for (Form f : forms()) {
             GruNetwork net = randomNetwork(rng, N, f.hidden(), f.lbr(), K, 0.9);
             InputBatch batch = randomBatch(rng, N, new int[] {8, 12, 5});
             Attributions a = Saliency.gradients(net, batch, new int[] {0, 1, 3}, LesionFill.ZERO,
-                    new Saliency.Settings(Saliency.Method.INTEGRATED, false, 256, 1, 0, 1, 1e-2, 2));
+                    new Saliency.Settings(Saliency.Method.INTEGRATED, false, 256, 1, 0, 1, 1e-2, 2, precise));
             assertTrue(a.maxSampleGap() <= 0.01, f + ": largest completeness gap of a sample " + a.maxSampleGap());
             assertTrue(a.relativeCompletenessGap() <= 0.01, f + ": completeness gap " + a.relativeCompletenessGap());
         }
@@ -118,15 +155,15 @@ class SaliencyTest {
         Random rng = new Random(13);
         GruNetwork net = randomNetwork(rng, N, new int[] {6}, new boolean[] {true}, K, 0.9);
         InputBatch batch = randomBatch(rng, N, new int[] {8, 10});
-        Saliency.Settings smooth = new Saliency.Settings(Saliency.Method.SMOOTH, false, 1, 8, 0.1, 3, 1e-2, 2);
+        Saliency.Settings smooth = new Saliency.Settings(Saliency.Method.SMOOTH, false, 1, 8, 0.1, 3, 1e-2, 2, false);
         Attributions a = Saliency.gradients(net, batch, new int[] {0, 1}, LesionFill.ZERO, smooth);
         Attributions b = Saliency.gradients(net, batch, new int[] {0, 1}, LesionFill.ZERO, smooth);
         assertTrue(Arrays.equals(a.maps()[1], b.maps()[1]), "same seed, same maps");
         // With no noise SmoothGrad is the plain gradient.
         Attributions still = Saliency.gradients(net, batch, new int[] {0, 1}, LesionFill.ZERO,
-                new Saliency.Settings(Saliency.Method.SMOOTH, false, 1, 3, 0.0, 3, 1e-2, 1));
+                new Saliency.Settings(Saliency.Method.SMOOTH, false, 1, 3, 0.0, 3, 1e-2, 1, false));
         Attributions plain = Saliency.gradients(net, batch, new int[] {0, 1}, LesionFill.ZERO,
-                new Saliency.Settings(Saliency.Method.GRADIENT, false, 1, 1, 0.0, 3, 1e-2, 1));
+                new Saliency.Settings(Saliency.Method.GRADIENT, false, 1, 1, 0.0, 3, 1e-2, 1, false));
         for (int i = 0; i < plain.maps()[0].length; i++) {
             assertEquals(plain.maps()[0][i], still.maps()[0][i], 1e-6);
         }
@@ -144,10 +181,10 @@ class SaliencyTest {
         InputBatch batch = randomBatch(rng, regions, new int[] {15, 11, 20, 9});
         int[] targets = {0, 1, 2, 3};
         Attributions exact = Saliency.gradients(net, batch, targets, LesionFill.ZERO,
-                new Saliency.Settings(Saliency.Method.GRADIENT, true, 1, 1, 0, 1, 1e-2, 2));
+                new Saliency.Settings(Saliency.Method.GRADIENT, true, 1, 1, 0, 1, 1e-2, 2, false));
         try (Decoder ort = OnnxModels.load(file, OnnxOptions.defaults().withEngine(OnnxOptions.Engine.ONNXRUNTIME))) {
             Attributions fd = Saliency.differences(ort.bind(batch), batch, targets,
-                    new Saliency.Settings(Saliency.Method.DIFFERENCES, true, 1, 1, 0, 1, 1e-2, 2));
+                    new Saliency.Settings(Saliency.Method.DIFFERENCES, true, 1, 1, 0, 1, 1e-2, 2, false));
             for (int s = 0; s < batch.size(); s++) {
                 double[] a = exact.regionSums(s);
                 double[] b = fd.regionSums(s);

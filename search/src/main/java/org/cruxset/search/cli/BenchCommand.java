@@ -243,6 +243,7 @@ public final class BenchCommand implements Callable<Integer> {
                 }
             }
             out.printf(Locale.ROOT, "Ratio native / %s: %.2f%n", best.engine, n.rate() / best.rate());
+            gradientPass(out, net, batch, n.rate(), nThreads);
             for (Meter m : meters.subList(1, meters.size())) {
                 int common = Math.min(n.results.size(), m.results.size());
                 double diff = 0;
@@ -259,6 +260,39 @@ public final class BenchCommand implements Callable<Integer> {
             }
         }
         return 0;
+    }
+
+    /**
+     * Times one gradient pass (the true-class score's input gradient of every sample, as {@code saliency --method
+     * gradient} computes it) after a warm-up pass on a few samples, and states it in scored sets of the native engine.
+     */
+    private static void gradientPass(PrintWriter out, GruNetwork net, InputBatch batch, double nativeRate, int threads) {
+        int[] targets = new int[batch.size()];
+        for (int s = 0; s < targets.length; s++) {
+            targets[s] = s % net.classes();
+        }
+        org.cruxset.scoring.saliency.Saliency.Settings settings = new org.cruxset.scoring.saliency.Saliency.Settings(
+                org.cruxset.scoring.saliency.Saliency.Method.GRADIENT, false, 1, 1, 0, 1, 1e-2, threads, false);
+        int warm = Math.min(batch.size(), 4 * threads);
+        float[][] series = new float[warm][];
+        int[] lengths = new int[warm];
+        for (int s = 0; s < warm; s++) {
+            series[s] = batch.series(s);
+            lengths[s] = batch.length(s);
+        }
+        org.cruxset.scoring.saliency.Saliency.gradients(net, InputBatch.of(batch.regions(), series, lengths),
+                java.util.Arrays.copyOf(targets, warm), org.cruxset.scoring.decoder.LesionFill.ZERO, settings);
+        double[] seconds = new double[3];
+        for (int i = 0; i < seconds.length; i++) {
+            long t0 = System.nanoTime();
+            org.cruxset.scoring.saliency.Saliency.gradients(net, batch, targets,
+                    org.cruxset.scoring.decoder.LesionFill.ZERO, settings);
+            seconds[i] = (System.nanoTime() - t0) / 1e9;
+        }
+        java.util.Arrays.sort(seconds);
+        out.printf(Locale.ROOT, "Gradient pass (input gradients of every sample, float fast path), 3 passes: best "
+                + "%.2f s, median %.2f s, as long as %.1f and %.1f scored sets of the native engine%n", seconds[0],
+                seconds[1], seconds[0] * nativeRate, seconds[1] * nativeRate);
     }
 
     private void validate() {

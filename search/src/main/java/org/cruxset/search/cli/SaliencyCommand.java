@@ -122,7 +122,7 @@ public final class SaliencyCommand implements Callable<Integer> {
                 m = Saliency.Method.DIFFERENCES;
             }
             Saliency.Settings settings = new Saliency.Settings(m, logProbability, steps, draws, noise, seed, step,
-                    model.threads());
+                    model.threads(), false);
             int[] targets = in.labels();
             long t0 = System.nanoTime();
             Attributions a = decoder instanceof NativeGruDecoder nat && m != Saliency.Method.DIFFERENCES
