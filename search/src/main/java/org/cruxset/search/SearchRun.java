@@ -149,14 +149,14 @@ public final class SearchRun {
             SetScore c = confirmed == null ? null : confirmed.get(i).score();
             Boolean cc = c == null ? null : session.confirmation().get().critical(c);
             reported.add(new Reported(s, searched.get(i).score(), true, c, cc, ctx.certificateOf(s)));
-            core = core == null ? s : intersect(core, s);
+            core = core == null ? s : core.intersect(s);
             union = union.union(s);
             if (records != null) {
                 entries.add(new SearchRecords.ResultEntry(i + 1, session.scorer().key(s),
                         confirmed == null ? null : session.confirmation().get().scorer().key(s), ctx.certificateOf(s)));
             }
         }
-        RegionSet interchangeable = core == null ? RegionSet.empty(ctx.regions()) : minus(union, core);
+        RegionSet interchangeable = core == null ? RegionSet.empty(ctx.regions()) : union.minus(core);
         if (records != null) {
             List<SearchRecords.FrontEntry> fe = new ArrayList<>();
             for (Front.Entry e : front.entries()) {
@@ -169,23 +169,5 @@ public final class SearchRun {
                 core == null ? RegionSet.empty(ctx.regions()) : core, interchangeable, front.entries(), ctx.charged(),
                 ctx.chargedAtBest(), front.notKept(), session.run() != null && session.run().resumed(), ctx.elapsedSeconds(),
                 ctx.elapsedBeforeSeconds(), ctx.batches(), ctx.batchedSets(), ctx.largestBatch());
-    }
-
-    private static RegionSet intersect(RegionSet a, RegionSet b) {
-        RegionSet out = RegionSet.empty(a.universe());
-        for (int p : a.positions()) {
-            if (b.contains(p)) {
-                out = out.with(p);
-            }
-        }
-        return out;
-    }
-
-    private static RegionSet minus(RegionSet a, RegionSet b) {
-        RegionSet out = a;
-        for (int p : b.positions()) {
-            out = out.without(p);
-        }
-        return out;
     }
 }

@@ -106,6 +106,26 @@ public final class RegionSet implements Comparable<RegionSet> {
         return new RegionSet(universe, b);
     }
 
+    /** This set without the members of another set over the same universe. */
+    public RegionSet minus(RegionSet o) {
+        requireSameUniverse(o);
+        long[] b = bits.clone();
+        for (int i = 0; i < b.length; i++) {
+            b[i] &= ~o.bits[i];
+        }
+        return new RegionSet(universe, b);
+    }
+
+    /** The members common to this set and another over the same universe. */
+    public RegionSet intersect(RegionSet o) {
+        requireSameUniverse(o);
+        long[] b = bits.clone();
+        for (int i = 0; i < b.length; i++) {
+            b[i] &= o.bits[i];
+        }
+        return new RegionSet(universe, b);
+    }
+
     /** The positions in ascending order. */
     public int[] positions() {
         int[] out = new int[size];

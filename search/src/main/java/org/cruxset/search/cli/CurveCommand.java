@@ -103,9 +103,7 @@ public final class CurveCommand implements Callable<Integer> {
         ScoringSession.Settings ss = scoring.settings("curve", command, seed,
                 budget == null ? Double.POSITIVE_INFINITY : budget + 1, model.threads());
         try (Decoder decoder = model.open(); ScoringSession session = ScoringSession.open(decoder, c, ss)) {
-            pw.println(Reports.CAUTION);
-            pw.printf("Held-out data: %s.%n", session.heldOut().description());
-            Reports.parts(pw, session);
+            Reports.header(pw, session);
             ScoringSession.Part part = session.search();
             pw.printf(Locale.ROOT, "Ranking: %s (%d %s, %s, values: %s). Search part: n = %d, intact accuracy %.3f, "
                             + "chance %.3f. Critical means %s.%n", ranking, r.size(), r.kind().label(),

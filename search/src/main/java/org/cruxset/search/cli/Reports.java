@@ -53,6 +53,13 @@ final class Reports {
                         ? "recorded (training split)" : "not recorded (give --reference COHORT to use those modes)");
     }
 
+    /** The opening of every scoring command's output: the caution, the held-out data and how it was split. */
+    static void header(PrintWriter pw, org.cruxset.scoring.eval.ScoringSession session) {
+        pw.println(CAUTION);
+        pw.printf("Held-out data: %s.%n", session.heldOut().description());
+        parts(pw, session);
+    }
+
     /** Says how held-out subjects were split into parts and which part strategies see. */
     static void parts(PrintWriter pw, org.cruxset.scoring.eval.ScoringSession session) {
         org.cruxset.scoring.eval.Parts p = session.parts();

@@ -112,9 +112,7 @@ public final class SaliencyCommand implements Callable<Integer> {
         try (Decoder decoder = model.open(); ScoringSession session = ScoringSession.open(decoder, c, ss)) {
             ScoringSession.Part part = session.search();
             ModelInputs in = part.inputs();
-            pw.println(Reports.CAUTION);
-            pw.printf("Held-out data: %s.%n", session.heldOut().description());
-            Reports.parts(pw, session);
+            Reports.header(pw, session);
             String note = "";
             if (!(decoder instanceof NativeGruDecoder) && m != Saliency.Method.DIFFERENCES) {
                 note = " (the model is run by ONNX Runtime, which gives no gradients: " + m.label()

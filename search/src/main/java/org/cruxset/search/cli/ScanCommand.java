@@ -133,9 +133,7 @@ public final class ScanCommand implements Callable<Integer> {
         ScoringSession.Settings ss = scoring.settings("scan", command, seed, Double.POSITIVE_INFINITY, model.threads());
         try (Decoder decoder = model.open(); ScoringSession session = ScoringSession.open(decoder, c, ss)) {
             ScoringSession.Part part = session.search();
-            pw.println(Reports.CAUTION);
-            pw.printf("Held-out data: %s.%n", session.heldOut().description());
-            Reports.parts(pw, session);
+            Reports.header(pw, session);
             pw.printf(Locale.ROOT, "Scanned part: %s, n = %d samples from %d subjects; intact accuracy %.3f, chance %.3f. "
                             + "Lesion mode: %s. Critical means %s.%n", part.name(), part.inputs().size(), part.subjects(),
                     part.intact().score().accuracy(), part.intact().score().chance(), session.settings().mode().label(),

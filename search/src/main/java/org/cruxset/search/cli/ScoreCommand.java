@@ -88,9 +88,7 @@ public final class ScoreCommand implements Callable<Integer> {
 
     private void print(PrintWriter pw, ScoringSession session, List<RegionSet> atlasSets,
                        List<LesionScorer.Scored> searched, List<LesionScorer.Scored> confirmed) {
-        pw.println(Reports.CAUTION);
-        pw.printf("Held-out data: %s.%n", session.heldOut().description());
-        Reports.parts(pw, session);
+        Reports.header(pw, session);
         pw.printf("Lesion mode: %s%s. Critical means %s.%n", session.settings().mode().label(),
                 session.settings().mode().isRandom() ? " (seed " + session.settings().modeSeed() + ")" : "",
                 session.settings().criterion().describe());

@@ -143,9 +143,7 @@ public final class SearchCommand implements Callable<Integer> {
         try (Decoder decoder = model.open();
              ScoringSession session = ScoringSession.open(decoder, c, settings)) {
             Strategy s = strategy(session);
-            pw.println(Reports.CAUTION);
-            pw.printf("Held-out data: %s.%n", session.heldOut().description());
-            Reports.parts(pw, session);
+            Reports.header(pw, session);
             pw.printf("Critical means %s. Lesion mode: %s.%n", session.settings().criterion().describe(),
                     session.settings().mode().label());
             pw.printf("Search: %s (%s), seed %d; budget %s%s%s.%s%n", s.name(), s.settings(), seed,

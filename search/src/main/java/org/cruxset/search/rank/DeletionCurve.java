@@ -107,7 +107,7 @@ public final class DeletionCurve {
         if (insertion) {
             List<RegionSet> ins = new ArrayList<>();
             for (int k : grid) {
-                ins.add(minus(all, prefixes.get(k - 1)));
+                ins.add(all.minus(prefixes.get(k - 1)));
             }
             inserted = ctx.score(ins);
         }
@@ -176,14 +176,6 @@ public final class DeletionCurve {
         List<RegionSet> out = new ArrayList<>();
         for (RegionSet atlasSet : Ranking.prefixes(units, atlas)) {
             out.add(ctx.session().toInputs(atlasSet));
-        }
-        return out;
-    }
-
-    private static RegionSet minus(RegionSet a, RegionSet b) {
-        RegionSet out = a;
-        for (int p : b.positions()) {
-            out = out.without(p);
         }
         return out;
     }
