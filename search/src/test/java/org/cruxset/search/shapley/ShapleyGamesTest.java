@@ -1,0 +1,222 @@
+package org.cruxset.search.shapley;
+
+import static org.junit.jupiter.api.Assertions.assertEquals;
+import static org.junit.jupiter.api.Assertions.assertTrue;
+
+import java.util.List;
+import java.util.function.ToDoubleFunction;
+import org.cruxset.scoring.lesion.RegionSet;
+import org.junit.jupiter.api.Test;
+
+/** Exact Shapley values of published games, and the honesty of the permutation estimators. */
+class ShapleyGamesTest {
+    /** A game given by a function of the coalition. */
+    static Game game(int n, ToDoubleFunction<RegionSet> v) {
+        return new Game() {
+            @Override
+            public int players() {
+                return n;
+            }
+
+            @Override
+            public double[] worth(List<RegionSet> coalitions) {
+                double[] out = new double[coalitions.size()];
+                for (int i = 0; i < out.length; i++) {
+                    out[i] = v.applyAsDouble(coalitions.get(i));
+                }
+                return out;
+            }
+        };
+    }
+
+    private static int count(RegionSet s, int from, int to) {
+        int c = 0;
+        for (int i = from; i < to; i++) {
+            c += s.contains(i) ? 1 : 0;
+        }
+        return c;
+    }
+
+    // Source: Shapley & Shubik (1954), American Political Science Review 48, the 11-member Security Council (5
+    // permanent members with a veto, passage needs 7 votes): 76/385 per permanent member, 1/462 per other. Checked
+    // also by counting pivotal orders: a non-permanent member is pivotal when all 5 permanent members and exactly one
+    // of the other 5 come before it, C(5,1) × 6! × 4! / 11! = 1/462.
+    @Test
+    void theElevenMemberSecurityCouncil() {
+        Game g = game(11, s -> count(s, 0, 5) == 5 && s.size() >= 7 ? 1 : 0);
+        Estimate e = ExactShapley.values(g);
+        for (int i = 0; i < 5; i++) {
+            assertEquals(76.0 / 385, e.value(i), 1e-12);
+        }
+        for (int i = 5; i < 11; i++) {
+            assertEquals(1.0 / 462, e.value(i), 1e-12);
+        }
+        assertEquals(5.0 * 720 * 24 / factorial(11), 1.0 / 462, 1e-15);
+    }
+
+    // Source: the 15-member Security Council since 1965 as a weighted voting game, weights 7 (permanent) and 1, quota
+    // 39: 421/2145 and 4/2145 (values from memory). Checked analytically here: a non-permanent member is pivotal when
+    // all 5 permanent members and exactly 3 of the other 9 come before it, C(9,3) × 8! × 6! / 15! = 4/2145, and the
+    // permanent members share the rest equally.
+    @Test
+    void theFifteenMemberSecurityCouncil() {
+        Game g = game(15, s -> 7 * count(s, 0, 5) + count(s, 5, 15) >= 39 ? 1 : 0);
+        Estimate e = ExactShapley.values(g);
+        double nonPermanent = 84.0 * factorial(8) * factorial(6) / factorial(15);
+        assertEquals(4.0 / 2145, nonPermanent, 1e-15);
+        assertEquals((1 - 10 * nonPermanent) / 5, 421.0 / 2145, 1e-15);
+        for (int i = 0; i < 5; i++) {
+            assertEquals(421.0 / 2145, e.value(i), 1e-12);
+        }
+        for (int i = 5; i < 15; i++) {
+            assertEquals(4.0 / 2145, e.value(i), 1e-12);
+        }
+    }
+
+    // Source: the glove game (common textbook example of the Shapley value; values from memory): one left-glove holder
+    // and two right-glove holders, v(S) = number of matched pairs: 2/3, 1/6, 1/6.
+    @Test
+    void theGloveGame() {
+        Estimate e = ExactShapley.values(game(3, s -> Math.min(count(s, 0, 1), count(s, 1, 3))));
+        assertEquals(2.0 / 3, e.value(0), 1e-12);
+        assertEquals(1.0 / 6, e.value(1), 1e-12);
+        assertEquals(1.0 / 6, e.value(2), 1e-12);
+    }
+
+    // Source: Littlechild & Owen (1973), Management Science 20, the airport game: with runway costs c1 <= ... <= cn
+    // and v(S) = max cost in S, player i pays Σ_{k<=i} (c_k − c_{k−1}) / (n − k + 1).
+    @Test
+    void anAirportGame() {
+        double[] c = {1, 3, 3, 7, 12, 20};
+        Estimate e = ExactShapley.values(game(c.length, s -> {
+            double m = 0;
+            for (int p : s.positions()) {
+                m = Math.max(m, c[p]);
+            }
+            return m;
+        }));
+        for (int i = 0; i < c.length; i++) {
+            double expected = 0;
+            for (int k = 0; k <= i; k++) {
+                expected += (c[k] - (k == 0 ? 0 : c[k - 1])) / (c.length - k);
+            }
+            assertEquals(expected, e.value(i), 1e-12, "player " + i);
+        }
+        assertEquals(20, e.sum(), 1e-12, "efficiency: the values sum to v(all) − v(∅)");
+    }
+
+    private static double factorial(int n) {
+        double f = 1;
+        for (int i = 2; i <= n; i++) {
+            f *= i;
+        }
+        return f;
+    }
+
+    /**
+     * A fixed synthetic game of 6 players without heavily skewed marginals: additive terms, two pair synergies, one
+     * redundant pair (either member suffices) and a size bonus.
+     */
+    static Game synthetic() {
+        double[] a = {0.3, 0.1, 0.25, 0.05, 0.2, 0.15};
+        return game(6, s -> {
+            double v = 0;
+            for (int p : s.positions()) {
+                v += a[p];
+            }
+            v += s.contains(0) && s.contains(1) ? 0.2 : 0;
+            v += s.contains(2) && s.contains(3) ? 0.15 : 0;
+            v += s.contains(4) || s.contains(5) ? 0.25 : 0;
+            v += 0.05 * Math.max(0, s.size() - 3);
+            return v;
+        });
+    }
+
+    // Must show (estimator honesty): at a fixed number of permutations, 400 seeded repeats, the 95% intervals cover the
+    // exact values 92-97% of the time, and the RMSE falls as (scored sets)^-1/2 (log-log slope within [-0.6, -0.4]).
+    @Test
+    void permutationIntervalsCoverAndErrorsShrinkAsTheSquareRoot() {
+        Game g = synthetic();
+        double[] exact = ExactShapley.values(g).values();
+        int repeats = 400;
+        int covered = 0;
+        int total = 0;
+        for (int r = 0; r < repeats; r++) {
+            Estimate e = PermutationShapley.values(g, 60, false, 1000 + r);
+            for (int i = 0; i < exact.length; i++) {
+                covered += Math.abs(e.value(i) - exact[i]) <= e.halfWidth(i) ? 1 : 0;
+                total++;
+            }
+        }
+        double coverage = (double) covered / total;
+        assertTrue(coverage >= 0.92 && coverage <= 0.97, "coverage " + coverage);
+        int[] ms = {20, 40, 80, 160, 320};
+        double[] x = new double[ms.length];
+        double[] y = new double[ms.length];
+        for (int k = 0; k < ms.length; k++) {
+            double sq = 0;
+            int cnt = 0;
+            for (int r = 0; r < repeats; r++) {
+                Estimate e = PermutationShapley.values(g, ms[k], false, 5000 + r);
+                for (int i = 0; i < exact.length; i++) {
+                    sq += Math.pow(e.value(i) - exact[i], 2);
+                    cnt++;
+                }
+            }
+            x[k] = Math.log(ms[k] * PermutationShapley.costPerPermutation(6));
+            y[k] = Math.log(Math.sqrt(sq / cnt));
+        }
+        double slope = slope(x, y);
+        System.out.printf("permutations: coverage %.4f; RMSE slope %.3f%n", coverage, slope);
+        assertTrue(slope >= -0.6 && slope <= -0.4, "log-log slope of RMSE against scored sets " + slope);
+    }
+
+    static double rmse(Game g, double[] exact, int permutations, boolean antithetic, int repeats, long seed) {
+        double sq = 0;
+        int cnt = 0;
+        for (int r = 0; r < repeats; r++) {
+            Estimate e = PermutationShapley.values(g, permutations, antithetic, seed + r);
+            for (int i = 0; i < exact.length; i++) {
+                sq += Math.pow(e.value(i) - exact[i], 2);
+                cnt++;
+            }
+        }
+        return Math.sqrt(sq / cnt);
+    }
+
+    // Must show: where marginals depend on a player's position (a game of coalition size with increasing returns),
+    // antithetic pairs reach plain sampling's RMSE with at least 20% fewer scored sets; in the symmetric majority
+    // game with an odd number of players it does not help (a permutation and its reverse put the same player in the
+    // pivotal middle position).
+    @Test
+    void antitheticPairsHelpWhereMarginalsDependOnPosition() {
+        Game convex = game(7, s -> Math.pow(s.size(), 1.5) + (s.contains(0) ? 0.5 : 0));
+        double[] exact = ExactShapley.values(convex).values();
+        double plain = rmse(convex, exact, 100, false, 400, 7);
+        double anti = rmse(convex, exact, 80, true, 400, 7);
+        assertTrue(anti <= plain, "antithetic with 80% of the scored sets: RMSE " + anti + ", plain " + plain);
+        Game majority = game(7, s -> s.size() >= 4 ? 1 : 0);
+        double[] exactM = ExactShapley.values(majority).values();
+        double plainM = rmse(majority, exactM, 100, false, 400, 9);
+        double antiM = rmse(majority, exactM, 80, true, 400, 9);
+        System.out.printf("convex game: RMSE plain (100) %.4g, antithetic (80) %.4g; majority: %.4g, %.4g%n", plain, anti,
+                plainM, antiM);
+        assertTrue(antiM > plainM, "majority game: antithetic " + antiM + " does not beat plain " + plainM);
+    }
+
+    static double slope(double[] x, double[] y) {
+        double mx = 0;
+        double my = 0;
+        for (int i = 0; i < x.length; i++) {
+            mx += x[i] / x.length;
+            my += y[i] / y.length;
+        }
+        double num = 0;
+        double den = 0;
+        for (int i = 0; i < x.length; i++) {
+            num += (x[i] - mx) * (y[i] - my);
+            den += (x[i] - mx) * (x[i] - mx);
+        }
+        return num / den;
+    }
+}
