@@ -43,8 +43,10 @@ public final class ExactShapley {
 
     /** Exact values of {@code game}. */
     public static Estimate values(Game game) {
-        int n = game.players();
-        double[] v = table(game);
+        return fromTable(table(game), game.players());
+    }
+
+    private static Estimate fromTable(double[] v, int n) {
         double[] weight = new double[n];
         // weight[s] = s! (n − s − 1)! / n!, computed as 1 / (n × C(n − 1, s))
         for (int s = 0; s < n; s++) {
@@ -60,6 +62,57 @@ public final class ExactShapley {
             }
         }
         return new Estimate("exact", phi, new double[n], v.length);
+    }
+
+    /**
+     * The Shapley interaction index of every pair (Grabisch &amp; Roubens 1999) from the worth table of all
+     * coalitions: I_ij = Σ_{S ⊆ N∖{i,j}} |S|! (n − |S| − 2)! / (n − 1)! × (v(S ∪ {i,j}) − v(S ∪ {i}) − v(S ∪ {j}) + v(S)).
+     * Positive: the pair is worth more together than apart (synergy); negative: redundancy.
+     */
+    static double[][] interactions(double[] v, int n) {
+        double[][] out = new double[n][n];
+        if (n < 2) {
+            return out;
+        }
+        double[] weight = new double[n - 1];
+        for (int s = 0; s <= n - 2; s++) {
+            weight[s] = 1.0 / ((n - 1) * binomial(n - 2, s));
+        }
+        for (int mask = 0; mask < v.length; mask++) {
+            int size = Integer.bitCount(mask);
+            if (size > n - 2) {
+                continue;
+            }
+            for (int i = 0; i < n; i++) {
+                if ((mask >>> i & 1) != 0) {
+                    continue;
+                }
+                for (int j = i + 1; j < n; j++) {
+                    if ((mask >>> j & 1) != 0) {
+                        continue;
+                    }
+                    double d = v[mask | 1 << i | 1 << j] - v[mask | 1 << i] - v[mask | 1 << j] + v[mask];
+                    out[i][j] += weight[size] * d;
+                }
+            }
+        }
+        for (int i = 0; i < n; i++) {
+            for (int j = i + 1; j < n; j++) {
+                out[j][i] = out[i][j];
+            }
+        }
+        return out;
+    }
+
+    /** Exact values and pairwise interaction indices of {@code game} from one enumeration. */
+    public record Full(Estimate values, double[][] interactions) {
+    }
+
+    /** Exact values and every pair's interaction index. */
+    public static Full full(Game game) {
+        int n = game.players();
+        double[] v = table(game);
+        return new Full(fromTable(v, n), interactions(v, n));
     }
 
     static RegionSet coalition(int n, int mask) {

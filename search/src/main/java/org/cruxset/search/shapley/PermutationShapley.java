@@ -22,43 +22,84 @@ public final class PermutationShapley {
 
     /** Estimates from {@code permutations} permutations (rounded up to pairs when antithetic). */
     public static Estimate values(Game game, int permutations, boolean antithetic, long seed) {
-        int n = game.players();
         if (permutations < 2) {
             throw new IllegalArgumentException("at least 2 permutations are needed for a standard error, found "
                     + permutations);
         }
-        SplittableRandom rng = new SplittableRandom(seed);
-        int draws = antithetic ? (permutations + 1) / 2 : permutations;
-        double[] mean = new double[n];
-        double[] m2 = new double[n];
-        long evaluations = 0;
-        for (int d = 0; d < draws; d++) {
-            int[] perm = shuffled(n, rng);
-            double[] x = marginals(game, perm);
-            evaluations += n + 1;
-            if (antithetic) {
-                int[] rev = new int[n];
-                for (int i = 0; i < n; i++) {
-                    rev[i] = perm[n - 1 - i];
+        Sampler s = new Sampler(game, antithetic, seed);
+        s.draw(antithetic ? (permutations + 1) / 2 : permutations);
+        return s.estimate();
+    }
+
+    /**
+     * A running estimate: draws are added in rounds (a permutation, or a permutation and its reverse), so a caller can
+     * stop at a target interval width or when the budget runs out; draws completed before a stop are kept.
+     */
+    public static final class Sampler {
+        private final Game game;
+        private final boolean antithetic;
+        private final SplittableRandom rng;
+        private final double[] mean;
+        private final double[] m2;
+        private int draws;
+        private long evaluations;
+
+        public Sampler(Game game, boolean antithetic, long seed) {
+            this.game = game;
+            this.antithetic = antithetic;
+            this.rng = new SplittableRandom(seed);
+            this.mean = new double[game.players()];
+            this.m2 = new double[game.players()];
+        }
+
+        /** Adds {@code count} draws. */
+        public void draw(int count) {
+            int n = game.players();
+            for (int d = 0; d < count; d++) {
+                int[] perm = shuffled(n, rng);
+                double[] x = marginals(game, perm);
+                long cost = n + 1;
+                if (antithetic) {
+                    int[] rev = new int[n];
+                    for (int i = 0; i < n; i++) {
+                        rev[i] = perm[n - 1 - i];
+                    }
+                    double[] y = marginals(game, rev);
+                    cost += n + 1;
+                    for (int i = 0; i < n; i++) {
+                        x[i] = (x[i] + y[i]) / 2;
+                    }
                 }
-                double[] y = marginals(game, rev);
-                evaluations += n + 1;
+                // Welford's running mean and sum of squares, updated only once the whole draw is scored
+                draws++;
+                evaluations += cost;
                 for (int i = 0; i < n; i++) {
-                    x[i] = (x[i] + y[i]) / 2;
+                    double delta = x[i] - mean[i];
+                    mean[i] += delta / draws;
+                    m2[i] += delta * (x[i] - mean[i]);
                 }
             }
-            // Welford's running mean and sum of squares
+        }
+
+        /** Draws so far. */
+        public int draws() {
+            return draws;
+        }
+
+        /** Coalitions one draw asks for. */
+        public long costPerDraw() {
+            return (antithetic ? 2L : 1L) * (game.players() + 1);
+        }
+
+        /** The estimate from the draws so far (standard errors infinite below two draws). */
+        public Estimate estimate() {
+            int n = mean.length;
+            double[] se = new double[n];
             for (int i = 0; i < n; i++) {
-                double delta = x[i] - mean[i];
-                mean[i] += delta / (d + 1);
-                m2[i] += delta * (x[i] - mean[i]);
+                se[i] = draws < 2 ? Double.POSITIVE_INFINITY : Math.sqrt(m2[i] / (draws - 1) / draws);
             }
+            return new Estimate(antithetic ? "antithetic permutations" : "permutations", mean, se, evaluations);
         }
-        double[] se = new double[n];
-        for (int i = 0; i < n; i++) {
-            se[i] = Math.sqrt(m2[i] / (draws - 1) / draws);
-        }
-        return new Estimate(antithetic ? "antithetic permutations" : "permutations", mean, se, evaluations);
     }
 
     /** Each player's marginal contribution along the chain of {@code perm}, scored as one batch. */

@@ -105,6 +105,29 @@ class ShapleyGamesTest {
         assertEquals(20, e.sum(), 1e-12, "efficiency: the values sum to v(all) − v(∅)");
     }
 
+    // Source: Grabisch (1997), Fuzzy Sets and Systems 92: the Shapley interaction index of the unanimity game u_T is
+    // 1 / (|T| − 1) for every pair inside T and 0 for every other pair.
+    @Test
+    void unanimityGamesHaveTheirAnalyticInteractions() {
+        int n = 7;
+        java.util.Set<Integer> t = java.util.Set.of(1, 3, 4, 6);
+        ExactShapley.Full f = ExactShapley.full(game(n, s -> {
+            for (int p : t) {
+                if (!s.contains(p)) {
+                    return 0;
+                }
+            }
+            return 1;
+        }));
+        for (int i = 0; i < n; i++) {
+            for (int j = i + 1; j < n; j++) {
+                double expected = t.contains(i) && t.contains(j) ? 1.0 / (t.size() - 1) : 0;
+                assertEquals(expected, f.interactions()[i][j], 1e-12, "pair " + i + "," + j);
+            }
+            assertEquals(t.contains(i) ? 1.0 / t.size() : 0, f.values().value(i), 1e-12);
+        }
+    }
+
     private static double factorial(int n) {
         double f = 1;
         for (int i = 2; i <= n; i++) {
