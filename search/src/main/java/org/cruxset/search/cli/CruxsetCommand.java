@@ -14,7 +14,7 @@ import picocli.CommandLine.Command;
             "A virtual lesion of a decoder describes the decoder, not causal brain function. Results are not for clinical decisions."
         },
         subcommands = {DemoCommand.class, SimulateCommand.class, TrainCommand.class, InfoCommand.class, ScoreCommand.class,
-            ScanCommand.class, CurveCommand.class, SaliencyCommand.class,
+            ScanCommand.class, CurveCommand.class, SaliencyCommand.class, ShapleyCommand.class,
             SearchCommand.class,
             ExportCommand.class, BenchCommand.class,
             CommandLine.HelpCommand.class})

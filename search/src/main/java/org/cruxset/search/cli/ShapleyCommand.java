@@ -1,0 +1,306 @@
+package org.cruxset.search.cli;
+
+import java.io.IOException;
+import java.io.PrintWriter;
+import java.io.UncheckedIOException;
+import java.io.Writer;
+import java.nio.charset.StandardCharsets;
+import java.nio.file.Files;
+import java.nio.file.Path;
+import java.util.ArrayList;
+import java.util.Collections;
+import java.util.List;
+import java.util.Locale;
+import java.util.concurrent.Callable;
+import org.cruxset.scoring.cohort.Atlas;
+import org.cruxset.scoring.cohort.Cohort;
+import org.cruxset.scoring.decoder.Decoder;
+import org.cruxset.scoring.eval.ScoringSession;
+import org.cruxset.scoring.lesion.LesionSpec;
+import org.cruxset.scoring.lesion.RegionSet;
+import org.cruxset.search.SearchContext;
+import org.cruxset.search.StopSearch;
+import org.cruxset.search.rank.Ranking;
+import org.cruxset.search.rank.RankingFile;
+import org.cruxset.search.shapley.Estimate;
+import org.cruxset.search.shapley.ExactShapley;
+import org.cruxset.search.shapley.LesionGame;
+import org.cruxset.search.shapley.PermutationShapley;
+import picocli.CommandLine;
+import picocli.CommandLine.Command;
+import picocli.CommandLine.Mixin;
+import picocli.CommandLine.Model.CommandSpec;
+import picocli.CommandLine.Option;
+import picocli.CommandLine.Spec;
+
+/** {@code cruxset shapley}: Shapley values of the lesion game, with intervals, for regions or networks. */
+@Command(name = "shapley", mixinStandardHelpOptions = true,
+        description = {"Shapley values of the decoder's lesion game: v(S) is the score with the players in S intact and "
+                + "every other player lesioned, so each player's value is its fair share of v(all) - v(none), "
+                + "averaged over every context of other lesions (Keinan et al. 2004, Neural Computation 16).",
+            "",
+            "Players are regions or networks. Exact enumeration when every coalition fits the budget, otherwise "
+                + "permutation sampling (plain or antithetic) until every player's 95% interval is narrower than "
+                + "--half-width or the budget is spent. Scores the search part; every coalition is kept in "
+                + "DIR/results.sqlite and reused."})
+public final class ShapleyCommand implements Callable<Integer> {
+    @Spec
+    CommandSpec spec;
+
+    @Mixin
+    ModelOptions model;
+
+    @Mixin
+    CohortOptions cohort;
+
+    @Mixin
+    ScoringOptions scoring;
+
+    @Option(names = "--players", defaultValue = "networks", paramLabel = "P",
+            description = "regions or networks. Default: ${DEFAULT-VALUE}.")
+    String players;
+
+    @Option(names = "--estimator", defaultValue = "auto", paramLabel = "E",
+            description = "auto (exact when 2^players fits the budget, else antithetic), exact, permutations or "
+                    + "antithetic (each permutation paired with its reverse). Default: ${DEFAULT-VALUE}.")
+    String estimator;
+
+    @Option(names = "--worth", defaultValue = "probability", paramLabel = "W",
+            description = "The score v(S) is measured in: probability (mean true-class probability; smoother, fewer "
+                    + "coalitions for the same interval) or accuracy. Default: ${DEFAULT-VALUE}.")
+    String worth;
+
+    @Option(names = "--half-width", defaultValue = "0.01", paramLabel = "W",
+            description = "Sampling stops once every player's 95% interval is at most this wide on each side. "
+                    + "Default: ${DEFAULT-VALUE}.")
+    double halfWidth;
+
+    @Option(names = "--budget", defaultValue = "20000", paramLabel = "N",
+            description = "At most N scored sets (coalitions). Default: ${DEFAULT-VALUE}.")
+    long budget;
+
+    @Option(names = "--seed", defaultValue = "1", paramLabel = "N", description = "Seed of the permutations. Default: ${DEFAULT-VALUE}.")
+    long seed;
+
+    @Override
+    public Integer call() {
+        PrintWriter pw = spec.commandLine().getOut();
+        String kind = players.toLowerCase(Locale.ROOT);
+        if (!kind.equals("regions") && !kind.equals("networks")) {
+            throw new CommandLine.ParameterException(spec.commandLine(), "--players must be regions or networks, found '"
+                    + players + "'");
+        }
+        String est = estimator.toLowerCase(Locale.ROOT);
+        if (!List.of("auto", "exact", "permutations", "antithetic").contains(est)) {
+            throw new CommandLine.ParameterException(spec.commandLine(), "--estimator must be auto, exact, permutations "
+                    + "or antithetic, found '" + estimator + "'");
+        }
+        LesionGame.Worth w = switch (worth.toLowerCase(Locale.ROOT)) {
+            case "probability" -> LesionGame.Worth.PROBABILITY;
+            case "accuracy" -> LesionGame.Worth.ACCURACY;
+            default -> throw new CommandLine.ParameterException(spec.commandLine(),
+                    "--worth must be probability or accuracy, found '" + worth + "'");
+        };
+        if (!(halfWidth > 0) || budget < 1) {
+            throw new CommandLine.ParameterException(spec.commandLine(), "--half-width must be positive and --budget at "
+                    + "least 1");
+        }
+        Cohort c = cohort.read();
+        Atlas atlas = c.atlas();
+        List<String> names = new ArrayList<>();
+        if (kind.equals("networks")) {
+            for (String net : atlas.networks().keySet()) {
+                names.add("network:" + net);
+            }
+        } else {
+            for (int r = 0; r < atlas.size(); r++) {
+                names.add(atlas.region(r).name());
+            }
+        }
+        int n = names.size();
+        if (est.equals("exact") && (n > ExactShapley.MAX_PLAYERS || ExactShapley.cost(n) > budget)) {
+            throw new CommandLine.ParameterException(spec.commandLine(), "--estimator exact needs 2^" + n + " = "
+                    + (n > 62 ? "more than 10^18" : Long.toString(1L << n)) + " coalitions; --budget is " + budget
+                    + (n > ExactShapley.MAX_PLAYERS ? " (and enumeration takes at most " + ExactShapley.MAX_PLAYERS
+                    + " players)" : "") + ": use permutations or antithetic");
+        }
+        boolean exact = est.equals("exact")
+                || est.equals("auto") && n <= ExactShapley.MAX_PLAYERS && ExactShapley.cost(n) <= budget;
+        String command = String.join(" ", spec.commandLine().getParseResult().originalArgs());
+        ScoringSession.Settings ss = scoring.settings("shapley", command, seed, budget + 1, model.threads());
+        try (Decoder decoder = model.open(); ScoringSession session = ScoringSession.open(decoder, c, ss)) {
+            Reports.header(pw, session);
+            List<RegionSet> units = new ArrayList<>();
+            for (String u : names) {
+                units.add(session.toInputs(LesionSpec.parse(u, atlas)));
+            }
+            ProgressBar bar = new ProgressBar(spec.commandLine().getErr(), "shapley");
+            double[] widest = {Double.NaN};
+            SearchContext ctx = new SearchContext(session, seed, null, 0, Double.POSITIVE_INFINITY, null,
+                    x -> bar.update((int) Math.min(budget, x.charged() - 1), (int) budget,
+                            Double.isNaN(widest[0]) ? "" : String.format(Locale.ROOT, "widest half-width %.4f",
+                                    widest[0])));
+            LesionGame game = new LesionGame(ctx, units, w);
+            pw.printf(Locale.ROOT, "Game: %d %s as players; v(S) = %s on the search part (%d samples) with the players "
+                            + "in S intact and every other player lesioned (mode %s). A player's value is its share of "
+                            + "v(all) - v(none); a pair's interaction is positive when the two are worth more together "
+                            + "than apart (synergy) and negative when either can stand in for the other (redundancy).%n",
+                    n, kind, w == LesionGame.Worth.ACCURACY ? "accuracy" : "mean true-class probability",
+                    session.search().inputs().size(), session.settings().mode().label());
+            double vAll = game.worth(RegionSet.all(n));
+            double vNone = game.worth(RegionSet.empty(n));
+            Estimate e;
+            double[][] interactions = null;
+            String stop;
+            if (exact) {
+                pw.printf("Estimator: exact enumeration of all %d coalitions.%n", 1L << n);
+                ExactShapley.Full f = ExactShapley.full(game);
+                e = f.values();
+                interactions = f.interactions();
+                stop = "exact";
+            } else {
+                boolean anti = !est.equals("permutations");
+                PermutationShapley.Sampler sampler = new PermutationShapley.Sampler(game, anti, seed);
+                pw.printf(Locale.ROOT, "Estimator: %s permutation sampling (Castro, Gomez & Tejada 2009), %d scored "
+                        + "sets per draw; stops at a 95%% half-width of %.4g for every player or at the budget of %d.%n",
+                        anti ? "antithetic" : "plain", sampler.costPerDraw(), halfWidth, budget);
+                stop = "budget";
+                try {
+                    while (true) {
+                        sampler.draw(sampler.draws() < 2 ? 2 : 1);
+                        Estimate now = sampler.estimate();
+                        double max = 0;
+                        for (int i = 0; i < n; i++) {
+                            max = Math.max(max, now.halfWidth(i));
+                        }
+                        widest[0] = max;
+                        if (max <= halfWidth) {
+                            stop = "target half-width reached";
+                            break;
+                        }
+                    }
+                } catch (StopSearch s) {
+                    stop = "budget spent";
+                }
+                e = sampler.estimate();
+                if (sampler.draws() < 2) {
+                    bar.done();
+                    throw new CommandLine.ParameterException(spec.commandLine(), "--budget " + budget + " does not "
+                            + "cover two draws of " + sampler.costPerDraw() + " scored sets each");
+                }
+            }
+            bar.done();
+            print(pw, names, e, interactions, vAll, vNone, stop, kind, ctx);
+        }
+        return 0;
+    }
+
+    private void print(PrintWriter pw, List<String> names, Estimate e, double[][] interactions, double vAll,
+                       double vNone, String stop, String kind, SearchContext ctx) {
+        int n = names.size();
+        List<Integer> order = new ArrayList<>();
+        for (int i = 0; i < n; i++) {
+            order.add(i);
+        }
+        order.sort((a, b) -> e.value(b) != e.value(a) ? Double.compare(e.value(b), e.value(a)) : Integer.compare(a, b));
+        pw.println();
+        pw.printf(Locale.ROOT, "Stopped: %s. Scored sets charged: %.0f (coalitions asked for: %d).%n", stop,
+                ctx.charged() - 1, e.evaluations());
+        List<String[]> rows = new ArrayList<>();
+        rows.add(new String[] {"rank", kind.equals("networks") ? "network" : "region", "value", "std. error",
+            "95% interval"});
+        for (int r = 0; r < n; r++) {
+            int i = order.get(r);
+            rows.add(new String[] {Integer.toString(r + 1), names.get(i), f4(e.value(i)), f4(e.standardErrors()[i]),
+                f4(e.value(i) - e.halfWidth(i)) + ".." + f4(e.value(i) + e.halfWidth(i))});
+        }
+        Table.print(pw, rows);
+        pw.printf(Locale.ROOT, "Sum of values %.4f; v(all) - v(none) = %.4f - %.4f = %.4f.%n", e.sum(), vAll, vNone,
+                vAll - vNone);
+        pw.println("Equal values do not imply equal minimal lesion sets: members of a redundant group (any one "
+                + "suffices) and of a synergistic set (all are needed) can get equal values; `cruxset search` tells them "
+                + "apart.");
+        if (interactions != null && n >= 2) {
+            pw.println();
+            pw.println("Pairwise interaction indices (Grabisch & Roubens 1999), largest magnitude first (positive: synergy, "
+                    + "negative: redundancy):");
+            List<int[]> pairs = new ArrayList<>();
+            for (int i = 0; i < n; i++) {
+                for (int j = i + 1; j < n; j++) {
+                    pairs.add(new int[] {i, j});
+                }
+            }
+            double[][] in = interactions;
+            pairs.sort((a, b) -> Double.compare(Math.abs(in[b[0]][b[1]]), Math.abs(in[a[0]][a[1]])));
+            List<String[]> pr = new ArrayList<>();
+            pr.add(new String[] {"pair", "interaction"});
+            for (int[] p : pairs.subList(0, Math.min(10, pairs.size()))) {
+                pr.add(new String[] {names.get(p[0]) + " + " + names.get(p[1]), f4(in[p[0]][p[1]])});
+            }
+            Table.print(pw, pr);
+        }
+        Path out = scoring.out();
+        String stem = kind;
+        Path tsv = out.resolve("shapley-" + stem + ".tsv");
+        write(tsv, w -> {
+            w.write("unit\tvalue\tstd_error\tlow95\thigh95\n");
+            for (int i : order) {
+                w.write(names.get(i) + "\t" + num(e.value(i)) + "\t" + num(e.standardErrors()[i]) + "\t"
+                        + num(e.value(i) - e.halfWidth(i)) + "\t" + num(e.value(i) + e.halfWidth(i)) + "\n");
+            }
+        });
+        List<String> units = new ArrayList<>();
+        List<Double> values = new ArrayList<>();
+        for (int i : order) {
+            units.add(names.get(i));
+            values.add(e.value(i));
+        }
+        Path ranking = out.resolve("ranking-shapley-" + stem + ".tsv");
+        RankingFile.write(ranking, new Ranking(kind.equals("networks") ? Ranking.Kind.NETWORKS : Ranking.Kind.REGIONS,
+                units, values, Collections.nCopies(n, "shapley"), true, "search",
+                "Shapley value of the lesion game (" + e.estimator() + ")"));
+        pw.printf("%nWritten: %s and %s", tsv, ranking);
+        if (interactions != null) {
+            Path matrix = out.resolve("shapley-" + stem + "-interactions.tsv");
+            write(matrix, w -> {
+                StringBuilder head = new StringBuilder("unit");
+                for (String name : names) {
+                    head.append('\t').append(name);
+                }
+                w.write(head + "\n");
+                for (int i = 0; i < n; i++) {
+                    StringBuilder line = new StringBuilder(names.get(i));
+                    for (int j = 0; j < n; j++) {
+                        line.append('\t').append(i == j ? "NA" : num(interactions[i][j]));
+                    }
+                    w.write(line + "\n");
+                }
+            });
+            pw.printf(" and %s", matrix);
+        }
+        pw.println(".");
+    }
+
+    private interface Body {
+        void write(Writer w) throws IOException;
+    }
+
+    private static void write(Path file, Body body) {
+        try {
+            Files.createDirectories(file.toAbsolutePath().getParent());
+            try (Writer w = Files.newBufferedWriter(file, StandardCharsets.UTF_8)) {
+                body.write(w);
+            }
+        } catch (IOException e) {
+            throw new UncheckedIOException("cannot write " + file + ": " + e.getMessage(), e);
+        }
+    }
+
+    private static String num(double v) {
+        return String.format(Locale.ROOT, "%.6g", v);
+    }
+
+    private static String f4(double v) {
+        return String.format(Locale.ROOT, "%.4f", v);
+    }
+}
