@@ -1,11 +1,6 @@
 package org.cruxset.search.cli;
 
-import java.io.IOException;
 import java.io.PrintWriter;
-import java.io.UncheckedIOException;
-import java.io.Writer;
-import java.nio.charset.StandardCharsets;
-import java.nio.file.Files;
 import java.nio.file.Path;
 import java.util.ArrayList;
 import java.util.List;
@@ -165,26 +160,18 @@ public final class CurveCommand implements Callable<Integer> {
     }
 
     private static void writeTsv(Path file, DeletionCurve.Result res) {
-        try {
-            Files.createDirectories(file.toAbsolutePath().getParent());
-            try (Writer w = Files.newBufferedWriter(file, StandardCharsets.UTF_8)) {
-                w.write("k\tdeletion_accuracy\tdeletion_p_true\tdeletion_critical\tinsertion_accuracy\tnull_low05\t"
-                        + "null_median\tnull_high95\n");
-                for (DeletionCurve.Point p : res.points()) {
-                    w.write(String.join("\t", Integer.toString(p.k()), num(p.deletion().accuracy()),
-                            num(p.deletion().meanTrueClassProbability()), Boolean.toString(p.deletionCritical()),
-                            p.insertion() == null ? "NA" : num(p.insertion().accuracy()), num(p.nullLow()),
-                            num(p.nullMedian()), num(p.nullHigh())) + "\n");
-                }
+        TextFiles.write(file, w -> {
+            w.write("k\tdeletion_accuracy\tdeletion_p_true\tdeletion_critical\tinsertion_accuracy\tnull_low05\t"
+                    + "null_median\tnull_high95\n");
+            for (DeletionCurve.Point p : res.points()) {
+                w.write(String.join("\t", Integer.toString(p.k()), TextFiles.num(p.deletion().accuracy()),
+                        TextFiles.num(p.deletion().meanTrueClassProbability()), Boolean.toString(p.deletionCritical()),
+                        p.insertion() == null ? "NA" : TextFiles.num(p.insertion().accuracy()), TextFiles.num(p.nullLow()),
+                        TextFiles.num(p.nullMedian()), TextFiles.num(p.nullHigh())) + "\n");
             }
-        } catch (IOException e) {
-            throw new UncheckedIOException("cannot write " + file + ": " + e.getMessage(), e);
-        }
+        });
     }
 
-    private static String num(double v) {
-        return Double.isNaN(v) ? "NA" : String.format(Locale.ROOT, "%.6g", v);
-    }
 
     private static String f3(double v) {
         return String.format(Locale.ROOT, "%.3f", v);

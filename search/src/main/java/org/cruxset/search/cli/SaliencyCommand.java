@@ -1,11 +1,6 @@
 package org.cruxset.search.cli;
 
-import java.io.IOException;
 import java.io.PrintWriter;
-import java.io.UncheckedIOException;
-import java.io.Writer;
-import java.nio.charset.StandardCharsets;
-import java.nio.file.Files;
 import java.nio.file.Path;
 import java.util.ArrayList;
 import java.util.LinkedHashMap;
@@ -216,7 +211,7 @@ public final class SaliencyCommand implements Callable<Integer> {
         Table.print(pw, rows);
         Path out = scoring.out();
         Path regionsTsv = out.resolve("saliency-regions.tsv");
-        write(regionsTsv, w -> {
+        TextFiles.write(regionsTsv, w -> {
             StringBuilder head = new StringBuilder("region\tnetwork\tmean_abs\tmean_signed_sum");
             for (String k : classes) {
                 head.append("\tmean_abs_").append(k);
@@ -224,18 +219,18 @@ public final class SaliencyCommand implements Callable<Integer> {
             w.write(head + "\n");
             for (int i : order) {
                 StringBuilder line = new StringBuilder(atlas.region(regionOf[i]).name() + "\t"
-                        + atlas.region(regionOf[i]).network() + "\t" + num(abs[i]) + "\t" + num(signed[i]));
+                        + atlas.region(regionOf[i]).network() + "\t" + TextFiles.num(abs[i]) + "\t" + TextFiles.num(signed[i]));
                 for (double[] pc : perClass) {
-                    line.append('\t').append(num(pc[i]));
+                    line.append('\t').append(TextFiles.num(pc[i]));
                 }
                 w.write(line + "\n");
             }
         });
         Path networksTsv = out.resolve("saliency-networks.tsv");
-        write(networksTsv, w -> {
+        TextFiles.write(networksTsv, w -> {
             w.write("network\tsummed_mean_abs\n");
             for (Map.Entry<String, Double> e : nets) {
-                w.write(e.getKey() + "\t" + num(e.getValue()) + "\n");
+                w.write(e.getKey() + "\t" + TextFiles.num(e.getValue()) + "\n");
             }
         });
         List<String> ru = new ArrayList<>();
@@ -316,7 +311,7 @@ public final class SaliencyCommand implements Callable<Integer> {
         int[] regionOf = in.regionOfInput();
         Path file = scoring.out().resolve("saliency-map-" + what.replaceAll("[^A-Za-z0-9._-]", "_") + ".tsv");
         int len = maxLen;
-        write(file, w -> {
+        TextFiles.write(file, w -> {
             StringBuilder head = new StringBuilder("region");
             for (int t = 0; t < len; t++) {
                 head.append("\tt").append(t);
@@ -325,7 +320,7 @@ public final class SaliencyCommand implements Callable<Integer> {
             for (int i = 0; i < n; i++) {
                 StringBuilder line = new StringBuilder(atlas.region(regionOf[i]).name());
                 for (int t = 0; t < len; t++) {
-                    line.append('\t').append(num(sum[i][t] / Math.max(1, count[t])));
+                    line.append('\t').append(TextFiles.num(sum[i][t] / Math.max(1, count[t])));
                 }
                 w.write(line + "\n");
             }
@@ -333,24 +328,6 @@ public final class SaliencyCommand implements Callable<Integer> {
         pw.printf("Regions x time map (signed, averaged over the samples present at each time point): %s%n", file);
     }
 
-    private interface Body {
-        void write(Writer w) throws IOException;
-    }
-
-    private static void write(Path file, Body body) {
-        try {
-            Files.createDirectories(file.toAbsolutePath().getParent());
-            try (Writer w = Files.newBufferedWriter(file, StandardCharsets.UTF_8)) {
-                body.write(w);
-            }
-        } catch (IOException e) {
-            throw new UncheckedIOException("cannot write " + file + ": " + e.getMessage(), e);
-        }
-    }
-
-    private static String num(double v) {
-        return String.format(Locale.ROOT, "%.6g", v);
-    }
 
     private static String g4(double v) {
         return String.format(Locale.ROOT, "%.4g", v);

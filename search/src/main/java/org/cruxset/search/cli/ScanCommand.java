@@ -1,11 +1,6 @@
 package org.cruxset.search.cli;
 
-import java.io.IOException;
 import java.io.PrintWriter;
-import java.io.UncheckedIOException;
-import java.io.Writer;
-import java.nio.charset.StandardCharsets;
-import java.nio.file.Files;
 import java.nio.file.Path;
 import java.util.ArrayList;
 import java.util.LinkedHashSet;
@@ -230,28 +225,20 @@ public final class ScanCommand implements Callable<Integer> {
     }
 
     private static void writeTsv(Path file, List<LesionScan.Row> rows) {
-        try {
-            Files.createDirectories(file.toAbsolutePath().getParent());
-            try (Writer w = Files.newBufferedWriter(file, StandardCharsets.UTF_8)) {
-                w.write("unit\tsize\tn\taccuracy\tdrop\tdrop_low95\tdrop_high95\tp_true\tp_true_drop\tlost\tgained\t"
-                        + "p_exact\tp_clustered\tp_adjusted\tsignificant\tcritical\n");
-                for (LesionScan.Row r : rows) {
-                    w.write(String.join("\t", r.unit(), Integer.toString(r.size()), Integer.toString(r.score().n()),
-                            num(r.score().accuracy()), num(r.drop()), num(r.dropLow()), num(r.dropHigh()),
-                            num(r.score().meanTrueClassProbability()), num(r.probabilityDrop()),
-                            Integer.toString(r.lost()), Integer.toString(r.gained()), num(r.pExact()),
-                            num(r.pClustered()), num(r.pAdjusted()), Boolean.toString(r.significant()),
-                            Boolean.toString(r.critical())) + "\n");
-                }
+        TextFiles.write(file, w -> {
+            w.write("unit\tsize\tn\taccuracy\tdrop\tdrop_low95\tdrop_high95\tp_true\tp_true_drop\tlost\tgained\t"
+                    + "p_exact\tp_clustered\tp_adjusted\tsignificant\tcritical\n");
+            for (LesionScan.Row r : rows) {
+                w.write(String.join("\t", r.unit(), Integer.toString(r.size()), Integer.toString(r.score().n()),
+                        TextFiles.num(r.score().accuracy()), TextFiles.num(r.drop()), TextFiles.num(r.dropLow()), TextFiles.num(r.dropHigh()),
+                        TextFiles.num(r.score().meanTrueClassProbability()), TextFiles.num(r.probabilityDrop()),
+                        Integer.toString(r.lost()), Integer.toString(r.gained()), TextFiles.num(r.pExact()),
+                        TextFiles.num(r.pClustered()), TextFiles.num(r.pAdjusted()), Boolean.toString(r.significant()),
+                        Boolean.toString(r.critical())) + "\n");
             }
-        } catch (IOException e) {
-            throw new UncheckedIOException("cannot write " + file + ": " + e.getMessage(), e);
-        }
+        });
     }
 
-    private static String num(double v) {
-        return Double.isNaN(v) ? "NA" : String.format(Locale.ROOT, "%.6g", v);
-    }
 
     private static String f3(double v) {
         return String.format(Locale.ROOT, "%.3f", v);

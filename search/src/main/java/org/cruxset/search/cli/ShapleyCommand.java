@@ -1,11 +1,6 @@
 package org.cruxset.search.cli;
 
-import java.io.IOException;
 import java.io.PrintWriter;
-import java.io.UncheckedIOException;
-import java.io.Writer;
-import java.nio.charset.StandardCharsets;
-import java.nio.file.Files;
 import java.nio.file.Path;
 import java.util.ArrayList;
 import java.util.Collections;
@@ -242,11 +237,11 @@ public final class ShapleyCommand implements Callable<Integer> {
         Path out = scoring.out();
         String stem = kind;
         Path tsv = out.resolve("shapley-" + stem + ".tsv");
-        write(tsv, w -> {
+        TextFiles.write(tsv, w -> {
             w.write("unit\tvalue\tstd_error\tlow95\thigh95\n");
             for (int i : order) {
-                w.write(names.get(i) + "\t" + num(e.value(i)) + "\t" + num(e.standardErrors()[i]) + "\t"
-                        + num(e.value(i) - e.halfWidth(i)) + "\t" + num(e.value(i) + e.halfWidth(i)) + "\n");
+                w.write(names.get(i) + "\t" + TextFiles.num(e.value(i)) + "\t" + TextFiles.num(e.standardErrors()[i]) + "\t"
+                        + TextFiles.num(e.value(i) - e.halfWidth(i)) + "\t" + TextFiles.num(e.value(i) + e.halfWidth(i)) + "\n");
             }
         });
         List<String> units = new ArrayList<>();
@@ -262,7 +257,7 @@ public final class ShapleyCommand implements Callable<Integer> {
         pw.printf("%nWritten: %s and %s", tsv, ranking);
         if (interactions != null) {
             Path matrix = out.resolve("shapley-" + stem + "-interactions.tsv");
-            write(matrix, w -> {
+            TextFiles.write(matrix, w -> {
                 StringBuilder head = new StringBuilder("unit");
                 for (String name : names) {
                     head.append('\t').append(name);
@@ -271,7 +266,7 @@ public final class ShapleyCommand implements Callable<Integer> {
                 for (int i = 0; i < n; i++) {
                     StringBuilder line = new StringBuilder(names.get(i));
                     for (int j = 0; j < n; j++) {
-                        line.append('\t').append(i == j ? "NA" : num(interactions[i][j]));
+                        line.append('\t').append(i == j ? "NA" : TextFiles.num(interactions[i][j]));
                     }
                     w.write(line + "\n");
                 }
@@ -281,24 +276,6 @@ public final class ShapleyCommand implements Callable<Integer> {
         pw.println(".");
     }
 
-    private interface Body {
-        void write(Writer w) throws IOException;
-    }
-
-    private static void write(Path file, Body body) {
-        try {
-            Files.createDirectories(file.toAbsolutePath().getParent());
-            try (Writer w = Files.newBufferedWriter(file, StandardCharsets.UTF_8)) {
-                body.write(w);
-            }
-        } catch (IOException e) {
-            throw new UncheckedIOException("cannot write " + file + ": " + e.getMessage(), e);
-        }
-    }
-
-    private static String num(double v) {
-        return String.format(Locale.ROOT, "%.6g", v);
-    }
 
     private static String f4(double v) {
         return String.format(Locale.ROOT, "%.4f", v);
