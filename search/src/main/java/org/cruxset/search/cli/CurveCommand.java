@@ -25,7 +25,7 @@ import picocli.CommandLine.Spec;
 /** {@code cruxset curve}: deletion and insertion curves of a ranking against random orders. */
 @Command(name = "curve", mixinStandardHelpOptions = true,
         description = {"Lesion a ranking's top k units for k on a grid and trace accuracy against k (deletion curve); "
-                + "keep only the top k (insertion curve); compare with random orders of the same units (a 5-95% band) "
+                + "keep only the top k (insertion curve); compare with random orders of the same units (a 5-95%% band) "
                 + "and mark the smallest critical prefix.",
             "",
             "Scores the search part, through the same scorer, store and budget unit as search; every score is kept "

@@ -31,7 +31,7 @@ import picocli.CommandLine.Spec;
         description = {"Lesion one unit at a time (every region, every network, or networks then the regions inside "
                 + "those that mattered) and compare each with the intact decoder on the same samples.",
             "",
-            "Per unit: accuracy, the drop from intact with a subject-clustered bootstrap 95% interval, the exact "
+            "Per unit: accuracy, the drop from intact with a subject-clustered bootstrap 95%% interval, the exact "
                 + "McNemar test and the subject-clustered McNemar test on per-sample correctness, the chosen test's "
                 + "p-value adjusted over all units (Holm or Benjamini-Hochberg), and whether the lesion alone is "
                 + "critical. Scans the search part (as search strategies do; --confirm 0 for all held-out samples). "

@@ -35,7 +35,7 @@ import picocli.CommandLine.Spec;
                 + "averaged over every context of other lesions (Keinan et al. 2004, Neural Computation 16).",
             "",
             "Players are regions or networks. Exact enumeration when every coalition fits the budget, otherwise "
-                + "permutation sampling (plain or antithetic) until every player's 95% interval is narrower than "
+                + "permutation sampling (plain or antithetic) until every player's 95%% interval is narrower than "
                 + "--half-width or the budget is spent. Scores the search part; every coalition is kept in "
                 + "DIR/results.sqlite and reused."})
 public final class ShapleyCommand implements Callable<Integer> {
@@ -66,7 +66,7 @@ public final class ShapleyCommand implements Callable<Integer> {
     String worth;
 
     @Option(names = "--half-width", defaultValue = "0.01", paramLabel = "W",
-            description = "Sampling stops once every player's 95% interval is at most this wide on each side. "
+            description = "Sampling stops once every player's 95%% interval is at most this wide on each side. "
                     + "Default: ${DEFAULT-VALUE}.")
     double halfWidth;
 
