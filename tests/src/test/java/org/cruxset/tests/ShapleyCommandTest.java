@@ -62,12 +62,17 @@ class ShapleyCommandTest {
     }
 
     // Must show (demo): every member of the decoder's smallest critical sets gets a larger region value than every
-    // decoy, with antithetic sampling on a budget.
+    // decoy, with antithetic sampling on a budget; the designed synergistic pair's sampled interaction is positive
+    // and its interval excludes zero.
     @Test
     void minimalSetMembersOutrankDecoys(@TempDir Path dir) throws Exception {
         Cli.Run r = Cli.run("shapley", "--model", DemoData.MODEL.toString(), "--cohort", DemoData.COHORT.toString(),
-                "--players", "regions", "--budget", "2000", "--out", dir.toString()).requireSuccess();
-        assertTrue(r.out().contains("Stopped: budget spent. Scored sets charged: 2000"), r.out());
+                "--players", "regions", "--budget", "4000", "--out", dir.toString()).requireSuccess();
+        assertTrue(r.out().contains("Stopped: budget spent."), r.out());
+        List<String> pairs = Files.readAllLines(dir.resolve("shapley-regions-pairs.tsv"));
+        String pair = pairs.stream().filter(l -> l.startsWith("fjord-13\tember-04") || l.startsWith("ember-04\tfjord-13"))
+                .findFirst().orElseThrow(() -> new AssertionError(String.join("\n", pairs)));
+        assertTrue(Double.parseDouble(pair.split("\t")[4]) > 0, "interval above zero: " + pair);
         Map<String, Double> v = values(dir.resolve("shapley-regions.tsv"));
         Set<String> members = new HashSet<>();
         for (List<String> s : TruthFile.decoderMinimumSets(DemoData.TRUTH)) {

@@ -74,6 +74,17 @@ public final class ShapleyCommand implements Callable<Integer> {
             description = "At most N scored sets (coalitions). Default: ${DEFAULT-VALUE}.")
     long budget;
 
+    @Option(names = "--interactions", defaultValue = "5", paramLabel = "M",
+            description = "When sampling: interaction indices of every pair among the M players with the largest values "
+                    + "(0: none), each from --interaction-draws draws of 4 coalitions, kept back from the budget. "
+                    + "Default: ${DEFAULT-VALUE}.")
+    int interactionPlayers;
+
+    @Option(names = "--interaction-draws", defaultValue = "50", paramLabel = "D",
+            description = "Draws per sampled pair, fewer when all pairs would need more than a quarter of the budget. "
+                    + "Default: ${DEFAULT-VALUE}.")
+    int interactionDraws;
+
     @Option(names = "--seed", defaultValue = "1", paramLabel = "N", description = "Seed of the permutations. Default: ${DEFAULT-VALUE}.")
     long seed;
 
@@ -96,6 +107,10 @@ public final class ShapleyCommand implements Callable<Integer> {
             default -> throw new CommandLine.ParameterException(spec.commandLine(),
                     "--worth must be probability or accuracy, found '" + worth + "'");
         };
+        if (interactionPlayers < 0 || interactionDraws < 2) {
+            throw new CommandLine.ParameterException(spec.commandLine(), "--interactions must be 0 or more and "
+                    + "--interaction-draws at least 2");
+        }
         if (!(halfWidth > 0) || budget < 1) {
             throw new CommandLine.ParameterException(spec.commandLine(), "--half-width must be positive and --budget at "
                     + "least 1");
@@ -146,6 +161,7 @@ public final class ShapleyCommand implements Callable<Integer> {
             double vNone = game.worth(RegionSet.empty(n));
             Estimate e;
             double[][] interactions = null;
+            List<org.cruxset.search.shapley.InteractionSampler.Pair> sampled = List.of();
             String stop;
             if (exact) {
                 pw.printf("Estimator: exact enumeration of all %d coalitions.%n", 1L << n);
@@ -160,6 +176,19 @@ public final class ShapleyCommand implements Callable<Integer> {
                         + "sets per draw; stops at a 95%% half-width of %.4g for every player or at the budget of %d.%n",
                         anti ? "antithetic" : "plain", sampler.costPerDraw(), halfWidth, budget);
                 stop = "budget";
+                int m = Math.min(interactionPlayers, n);
+                long pairs = (long) m * (m - 1) / 2;
+                int draws = pairs == 0 ? 0 : (int) Math.min(interactionDraws, budget / 4 / (4 * pairs));
+                if (pairs > 0 && draws < 2) {
+                    pw.printf("No sampled interactions: %d pairs need at least %d scored sets, more than a quarter of "
+                            + "--budget %d.%n", pairs, 8 * pairs, budget);
+                    m = 0;
+                } else if (draws < interactionDraws) {
+                    pw.printf("Interactions: %d draws per pair instead of %d, so that the %d pairs take at most a "
+                            + "quarter of the budget.%n", draws, interactionDraws, pairs);
+                }
+                long pairCost = m < 2 ? 0 : pairs * org.cruxset.search.shapley.InteractionSampler.cost(draws);
+                ctx.reserve(pairCost);
                 try {
                     while (true) {
                         sampler.draw(sampler.draws() < 2 ? 2 : 1);
@@ -181,11 +210,33 @@ public final class ShapleyCommand implements Callable<Integer> {
                 if (sampler.draws() < 2) {
                     bar.done();
                     throw new CommandLine.ParameterException(spec.commandLine(), "--budget " + budget + " does not "
-                            + "cover two draws of " + sampler.costPerDraw() + " scored sets each");
+                            + "cover two draws of " + sampler.costPerDraw() + " scored sets each"
+                            + (pairCost > 0 ? " beside the " + pairCost + " kept for interactions" : ""));
+                }
+                ctx.reserve(0);
+                if (m >= 2) {
+                    Estimate fixed = e;
+                    List<Integer> top = new ArrayList<>();
+                    for (int i = 0; i < n; i++) {
+                        top.add(i);
+                    }
+                    top.sort((a, b) -> Double.compare(Math.abs(fixed.value(b)), Math.abs(fixed.value(a))));
+                    List<int[]> chosen = new ArrayList<>();
+                    for (int a = 0; a < m; a++) {
+                        for (int b = a + 1; b < m; b++) {
+                            chosen.add(new int[] {top.get(a), top.get(b)});
+                        }
+                    }
+                    try {
+                        sampled = org.cruxset.search.shapley.InteractionSampler.estimate(game, chosen, draws, seed + 1);
+                    } catch (StopSearch s) {
+                        pw.println("The budget ran out before the interactions: none are reported.");
+                    }
                 }
             }
             bar.done();
             print(pw, names, e, interactions, vAll, vNone, stop, kind, ctx);
+            printSampled(pw, names, sampled, kind);
         }
         return 0;
     }
@@ -276,6 +327,36 @@ public final class ShapleyCommand implements Callable<Integer> {
         pw.println(".");
     }
 
+
+    private void printSampled(PrintWriter pw, List<String> names,
+                              List<org.cruxset.search.shapley.InteractionSampler.Pair> sampled, String kind) {
+        if (sampled.isEmpty()) {
+            return;
+        }
+        pw.println();
+        pw.printf("Sampled pairwise interaction indices of the %s with the largest values (Grabisch & Roubens 1999; "
+                + "positive: synergy, negative: redundancy), %d draws of 4 coalitions each:%n", kind,
+                sampled.get(0).draws());
+        List<String[]> rows = new ArrayList<>();
+        rows.add(new String[] {"pair", "interaction", "std. error", "95% interval", "excludes 0"});
+        for (org.cruxset.search.shapley.InteractionSampler.Pair p : sampled) {
+            double lo = p.value() - p.halfWidth();
+            double hi = p.value() + p.halfWidth();
+            rows.add(new String[] {names.get(p.first()) + " + " + names.get(p.second()), f4(p.value()),
+                f4(p.standardError()), f4(lo) + ".." + f4(hi), lo > 0 || hi < 0 ? "yes" : "no"});
+        }
+        Table.print(pw, rows);
+        Path tsv = scoring.out().resolve("shapley-" + kind + "-pairs.tsv");
+        TextFiles.write(tsv, w -> {
+            w.write("first\tsecond\tinteraction\tstd_error\tlow95\thigh95\tdraws\n");
+            for (org.cruxset.search.shapley.InteractionSampler.Pair p : sampled) {
+                w.write(names.get(p.first()) + "\t" + names.get(p.second()) + "\t" + TextFiles.num(p.value()) + "\t"
+                        + TextFiles.num(p.standardError()) + "\t" + TextFiles.num(p.value() - p.halfWidth()) + "\t"
+                        + TextFiles.num(p.value() + p.halfWidth()) + "\t" + p.draws() + "\n");
+            }
+        });
+        pw.println("Written: " + tsv);
+    }
 
     private static String f4(double v) {
         return String.format(Locale.ROOT, "%.4f", v);
