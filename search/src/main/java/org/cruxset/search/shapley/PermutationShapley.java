@@ -39,15 +39,26 @@ public final class PermutationShapley {
         private final Game game;
         private final boolean antithetic;
         private final SplittableRandom rng;
+        private final java.util.function.Function<SplittableRandom, int[]> orders;
+        private final String name;
         private final double[] mean;
         private final double[] m2;
         private int draws;
         private long evaluations;
 
+        /** Uniform permutations of the players (Shapley values). */
         public Sampler(Game game, boolean antithetic, long seed) {
+            this(game, antithetic, seed, r -> shuffled(game.players(), r), "permutations");
+        }
+
+        /** Orders drawn by {@code orders} (e.g. keeping unions together, for Owen values), named {@code name}. */
+        Sampler(Game game, boolean antithetic, long seed, java.util.function.Function<SplittableRandom, int[]> orders,
+                String name) {
             this.game = game;
             this.antithetic = antithetic;
             this.rng = new SplittableRandom(seed);
+            this.orders = orders;
+            this.name = name;
             this.mean = new double[game.players()];
             this.m2 = new double[game.players()];
         }
@@ -56,7 +67,7 @@ public final class PermutationShapley {
         public void draw(int count) {
             int n = game.players();
             for (int d = 0; d < count; d++) {
-                int[] perm = shuffled(n, rng);
+                int[] perm = orders.apply(rng);
                 double[] x = marginals(game, perm);
                 long cost = n + 1;
                 if (antithetic) {
@@ -98,7 +109,7 @@ public final class PermutationShapley {
             for (int i = 0; i < n; i++) {
                 se[i] = draws < 2 ? Double.POSITIVE_INFINITY : Math.sqrt(m2[i] / (draws - 1) / draws);
             }
-            return new Estimate(antithetic ? "antithetic permutations" : "permutations", mean, se, evaluations);
+            return new Estimate(antithetic ? "antithetic " + name : name, mean, se, evaluations);
         }
     }
 
