@@ -52,7 +52,8 @@ public final class ShapleyCommand implements Callable<Integer> {
     ScoringOptions scoring;
 
     @Option(names = "--players", defaultValue = "networks", paramLabel = "P",
-            description = "regions or networks. Default: ${DEFAULT-VALUE}.")
+            description = "networks, regions, or nested (regions within their networks: Owen values, Owen 1977, where "
+                    + "networks come one after another and a network's regions keep together). Default: ${DEFAULT-VALUE}.")
     String players;
 
     @Option(names = "--estimator", defaultValue = "auto", paramLabel = "E",
@@ -92,9 +93,9 @@ public final class ShapleyCommand implements Callable<Integer> {
     public Integer call() {
         PrintWriter pw = spec.commandLine().getOut();
         String kind = players.toLowerCase(Locale.ROOT);
-        if (!kind.equals("regions") && !kind.equals("networks")) {
-            throw new CommandLine.ParameterException(spec.commandLine(), "--players must be regions or networks, found '"
-                    + players + "'");
+        if (!List.of("regions", "networks", "nested").contains(kind)) {
+            throw new CommandLine.ParameterException(spec.commandLine(), "--players must be networks, regions or nested, "
+                    + "found '" + players + "'");
         }
         String est = estimator.toLowerCase(Locale.ROOT);
         if (!List.of("auto", "exact", "permutations", "antithetic").contains(est)) {
@@ -128,6 +129,14 @@ public final class ShapleyCommand implements Callable<Integer> {
             }
         }
         int n = names.size();
+        int[] unionOf = null;
+        if (kind.equals("nested")) {
+            List<String> nets = new ArrayList<>(atlas.networks().keySet());
+            unionOf = new int[n];
+            for (int r = 0; r < n; r++) {
+                unionOf[r] = nets.indexOf(atlas.region(r).network());
+            }
+        }
         if (est.equals("exact") && (n > ExactShapley.MAX_PLAYERS || ExactShapley.cost(n) > budget)) {
             throw new CommandLine.ParameterException(spec.commandLine(), "--estimator exact needs 2^" + n + " = "
                     + (n > 62 ? "more than 10^18" : Long.toString(1L << n)) + " coalitions; --budget is " + budget
@@ -163,7 +172,11 @@ public final class ShapleyCommand implements Callable<Integer> {
             double[][] interactions = null;
             List<org.cruxset.search.shapley.InteractionSampler.Pair> sampled = List.of();
             String stop;
-            if (exact) {
+            if (exact && unionOf != null) {
+                pw.printf("Estimator: exact Owen values from all %d coalitions.%n", 1L << n);
+                e = org.cruxset.search.shapley.OwenValues.exact(game, unionOf);
+                stop = "exact";
+            } else if (exact) {
                 pw.printf("Estimator: exact enumeration of all %d coalitions.%n", 1L << n);
                 ExactShapley.Full f = ExactShapley.full(game);
                 e = f.values();
@@ -171,10 +184,13 @@ public final class ShapleyCommand implements Callable<Integer> {
                 stop = "exact";
             } else {
                 boolean anti = !est.equals("permutations");
-                PermutationShapley.Sampler sampler = new PermutationShapley.Sampler(game, anti, seed);
-                pw.printf(Locale.ROOT, "Estimator: %s permutation sampling (Castro, Gomez & Tejada 2009), %d scored "
+                PermutationShapley.Sampler sampler = unionOf != null
+                        ? org.cruxset.search.shapley.OwenValues.sampler(game, unionOf, anti, seed)
+                        : new PermutationShapley.Sampler(game, anti, seed);
+                pw.printf(Locale.ROOT, "Estimator: %s %s sampling (Castro, Gomez & Tejada 2009), %d scored "
                         + "sets per draw; stops at a 95%% half-width of %.4g for every player or at the budget of %d.%n",
-                        anti ? "antithetic" : "plain", sampler.costPerDraw(), halfWidth, budget);
+                        anti ? "antithetic" : "plain", unionOf != null ? "order (networks kept together)"
+                                : "permutation", sampler.costPerDraw(), halfWidth, budget);
                 stop = "budget";
                 int m = Math.min(interactionPlayers, n);
                 long pairs = (long) m * (m - 1) / 2;
@@ -183,7 +199,7 @@ public final class ShapleyCommand implements Callable<Integer> {
                     pw.printf("No sampled interactions: %d pairs need at least %d scored sets, more than a quarter of "
                             + "--budget %d.%n", pairs, 8 * pairs, budget);
                     m = 0;
-                } else if (draws < interactionDraws) {
+                } else if (pairs > 0 && draws < interactionDraws) {
                     pw.printf("Interactions: %d draws per pair instead of %d, so that the %d pairs take at most a "
                             + "quarter of the budget.%n", draws, interactionDraws, pairs);
                 }
@@ -253,7 +269,8 @@ public final class ShapleyCommand implements Callable<Integer> {
         pw.printf(Locale.ROOT, "Stopped: %s. Scored sets charged: %.0f (coalitions asked for: %d).%n", stop,
                 ctx.charged() - 1, e.evaluations());
         List<String[]> rows = new ArrayList<>();
-        rows.add(new String[] {"rank", kind.equals("networks") ? "network" : "region", "value", "std. error",
+        rows.add(new String[] {"rank", kind.equals("networks") ? "network" : "region", kind.equals("nested")
+            ? "Owen value" : "value", "std. error",
             "95% interval"});
         for (int r = 0; r < n; r++) {
             int i = order.get(r);
