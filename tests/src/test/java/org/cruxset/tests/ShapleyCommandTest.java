@@ -108,6 +108,10 @@ class ShapleyCommandTest {
                 "--players", "regions", "--estimator", "exact", "--out", dir.toString());
         assertEquals(2, exact.exit());
         assertTrue(exact.err().contains("--estimator exact needs 2^100"), exact.err());
+        Cli.Run strat = Cli.run("shapley", "--model", DemoData.MODEL.toString(), "--cohort", DemoData.COHORT.toString(),
+                "--players", "regions", "--estimator", "stratified", "--out", dir.toString());
+        assertEquals(2, strat.exit());
+        assertTrue(strat.err().contains("at most 20 of them (100 here)"), strat.err());
         Cli.Run small = Cli.run("shapley", "--model", DemoData.MODEL.toString(), "--cohort", DemoData.COHORT.toString(),
                 "--players", "regions", "--budget", "300", "--out", dir.toString());
         assertEquals(2, small.exit());

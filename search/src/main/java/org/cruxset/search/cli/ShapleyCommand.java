@@ -57,8 +57,9 @@ public final class ShapleyCommand implements Callable<Integer> {
     String players;
 
     @Option(names = "--estimator", defaultValue = "auto", paramLabel = "E",
-            description = "auto (exact when 2^players fits the budget, else antithetic), exact, permutations or "
-                    + "antithetic (each permutation paired with its reverse). Default: ${DEFAULT-VALUE}.")
+            description = "auto (exact when 2^players fits the budget, else antithetic), exact, permutations, "
+                    + "antithetic (each permutation paired with its reverse) or stratified (by position; up to 20 "
+                    + "players; spends the budget evenly over the (player, position) strata). Default: ${DEFAULT-VALUE}.")
     String estimator;
 
     @Option(names = "--worth", defaultValue = "probability", paramLabel = "W",
@@ -98,9 +99,9 @@ public final class ShapleyCommand implements Callable<Integer> {
                     + "found '" + players + "'");
         }
         String est = estimator.toLowerCase(Locale.ROOT);
-        if (!List.of("auto", "exact", "permutations", "antithetic").contains(est)) {
-            throw new CommandLine.ParameterException(spec.commandLine(), "--estimator must be auto, exact, permutations "
-                    + "or antithetic, found '" + estimator + "'");
+        if (!List.of("auto", "exact", "permutations", "antithetic", "stratified").contains(est)) {
+            throw new CommandLine.ParameterException(spec.commandLine(), "--estimator must be auto, exact, permutations, "
+                    + "antithetic or stratified, found '" + estimator + "'");
         }
         LesionGame.Worth w = switch (worth.toLowerCase(Locale.ROOT)) {
             case "probability" -> LesionGame.Worth.PROBABILITY;
@@ -143,6 +144,14 @@ public final class ShapleyCommand implements Callable<Integer> {
                     + (n > ExactShapley.MAX_PLAYERS ? " (and enumeration takes at most " + ExactShapley.MAX_PLAYERS
                     + " players)" : "") + ": use permutations or antithetic");
         }
+        if (est.equals("stratified") && (kind.equals("nested")
+                || n > org.cruxset.search.shapley.StratifiedShapley.MAX_PLAYERS
+                || org.cruxset.search.shapley.StratifiedShapley.cost(n, 2) > budget)) {
+            throw new CommandLine.ParameterException(spec.commandLine(), "--estimator stratified takes plain players (not "
+                    + "nested), at most " + org.cruxset.search.shapley.StratifiedShapley.MAX_PLAYERS + " of them ("
+                    + n + " here), and a budget of at least 2 x players^2 x 2 = "
+                    + org.cruxset.search.shapley.StratifiedShapley.cost(n, 2) + " scored sets");
+        }
         boolean exact = est.equals("exact")
                 || est.equals("auto") && n <= ExactShapley.MAX_PLAYERS && ExactShapley.cost(n) <= budget;
         String command = String.join(" ", spec.commandLine().getParseResult().originalArgs());
@@ -176,6 +185,12 @@ public final class ShapleyCommand implements Callable<Integer> {
                 pw.printf("Estimator: exact Owen values from all %d coalitions.%n", 1L << n);
                 e = org.cruxset.search.shapley.OwenValues.exact(game, unionOf);
                 stop = "exact";
+            } else if (est.equals("stratified")) {
+                int per = (int) Math.min(100_000, budget / (2L * n * n));
+                pw.printf("Estimator: sampling stratified by position (Maleki et al. 2013), %d coalitions of each size "
+                        + "for each player, 2 scored sets each.%n", per);
+                e = org.cruxset.search.shapley.StratifiedShapley.values(game, per, seed);
+                stop = "every stratum sampled";
             } else if (exact) {
                 pw.printf("Estimator: exact enumeration of all %d coalitions.%n", 1L << n);
                 ExactShapley.Full f = ExactShapley.full(game);
