@@ -58,8 +58,10 @@ public final class ShapleyCommand implements Callable<Integer> {
 
     @Option(names = "--estimator", defaultValue = "auto", paramLabel = "E",
             description = "auto (exact when 2^players fits the budget, else antithetic), exact, permutations, "
-                    + "antithetic (each permutation paired with its reverse) or stratified (by position; up to 20 "
-                    + "players; spends the budget evenly over the (player, position) strata). Default: ${DEFAULT-VALUE}.")
+                    + "antithetic (each permutation paired with its reverse), stratified (by position; up to 20 "
+                    + "players; spends the budget evenly over the (player, position) strata) or regression (weighted "
+                    + "least squares on coalitions paired with their complements; spends the budget). "
+                    + "Default: ${DEFAULT-VALUE}.")
     String estimator;
 
     @Option(names = "--worth", defaultValue = "probability", paramLabel = "W",
@@ -99,9 +101,9 @@ public final class ShapleyCommand implements Callable<Integer> {
                     + "found '" + players + "'");
         }
         String est = estimator.toLowerCase(Locale.ROOT);
-        if (!List.of("auto", "exact", "permutations", "antithetic", "stratified").contains(est)) {
+        if (!List.of("auto", "exact", "permutations", "antithetic", "stratified", "regression").contains(est)) {
             throw new CommandLine.ParameterException(spec.commandLine(), "--estimator must be auto, exact, permutations, "
-                    + "antithetic or stratified, found '" + estimator + "'");
+                    + "antithetic, stratified or regression, found '" + estimator + "'");
         }
         LesionGame.Worth w = switch (worth.toLowerCase(Locale.ROOT)) {
             case "probability" -> LesionGame.Worth.PROBABILITY;
@@ -152,6 +154,10 @@ public final class ShapleyCommand implements Callable<Integer> {
                     + n + " here), and a budget of at least 2 x players^2 x 2 = "
                     + org.cruxset.search.shapley.StratifiedShapley.cost(n, 2) + " scored sets");
         }
+        if (est.equals("regression") && (kind.equals("nested") || (budget - 2) / 2 < n)) {
+            throw new CommandLine.ParameterException(spec.commandLine(), "--estimator regression takes plain players "
+                    + "(not nested) and a budget of at least 2 x players + 2 = " + (2L * n + 2) + " scored sets");
+        }
         boolean exact = est.equals("exact")
                 || est.equals("auto") && n <= ExactShapley.MAX_PLAYERS && ExactShapley.cost(n) <= budget;
         String command = String.join(" ", spec.commandLine().getParseResult().originalArgs());
@@ -185,6 +191,13 @@ public final class ShapleyCommand implements Callable<Integer> {
                 pw.printf("Estimator: exact Owen values from all %d coalitions.%n", 1L << n);
                 e = org.cruxset.search.shapley.OwenValues.exact(game, unionOf);
                 stop = "exact";
+            } else if (est.equals("regression")) {
+                int pairs = (int) Math.min(1_000_000, (budget - 2) / 2);
+                pw.printf("Estimator: weighted least squares on %d coalitions drawn from the Shapley kernel, each with "
+                        + "its complement (Lundberg & Lee 2017; Covert & Lee 2021); standard errors from %d bootstrap "
+                        + "resamples of the pairs.%n", pairs, org.cruxset.search.shapley.RegressionShapley.BOOTSTRAP);
+                e = org.cruxset.search.shapley.RegressionShapley.values(game, pairs, seed);
+                stop = "budget spent";
             } else if (est.equals("stratified")) {
                 int per = (int) Math.min(100_000, budget / (2L * n * n));
                 pw.printf("Estimator: sampling stratified by position (Maleki et al. 2013), %d coalitions of each size "
