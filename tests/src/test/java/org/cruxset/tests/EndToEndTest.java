@@ -160,6 +160,61 @@ class EndToEndTest {
         }
     }
 
+    // Must show (Shapley values) on the CI cohort: sampled network values lie within 2.5 half-widths of the exact values
+    // from enumeration (every network jointly); the synergistic pair's sampled interaction interval is above zero; every
+    // member of the decoder's smallest critical sets gets a larger region value than every decoy.
+    @Test
+    void shapleyValuesAgreeWithEnumerationAndSeparateTheTruth() throws Exception {
+        Path truth = cohortDir.resolve(TruthFile.NAME);
+        Path exactDir = dir.resolve("shapley-exact");
+        Path sampledDir = dir.resolve("shapley-sampled");
+        Cli.run("shapley", "--model", model.toString(), "--cohort", cohortDir.toString(), "--estimator", "exact",
+                "--out", exactDir.toString(), "--threads", "2").requireSuccess();
+        Cli.run("shapley", "--model", model.toString(), "--cohort", cohortDir.toString(), "--estimator", "antithetic",
+                "--budget", "600", "--out", sampledDir.toString(), "--threads", "2").requireSuccess();
+        java.util.Map<String, String[]> exact = shapleyRows(exactDir.resolve("shapley-networks.tsv"));
+        java.util.Map<String, String[]> sampled = shapleyRows(sampledDir.resolve("shapley-networks.tsv"));
+        assertEquals(exact.keySet(), sampled.keySet());
+        for (String net : exact.keySet()) {
+            double e = Double.parseDouble(exact.get(net)[1]);
+            double v = Double.parseDouble(sampled.get(net)[1]);
+            double hw = Double.parseDouble(sampled.get(net)[4]) - v;
+            assertTrue(Math.abs(v - e) <= 2.5 * hw, net + ": sampled " + v + " ± " + hw + ", exact " + e);
+        }
+        Path regionsDir = dir.resolve("shapley-regions");
+        Cli.Run r = Cli.run("shapley", "--model", model.toString(), "--cohort", cohortDir.toString(), "--players",
+                "regions", "--budget", "6000", "--out", regionsDir.toString(), "--threads", "2").requireSuccess();
+        java.util.Map<String, String[]> regions = shapleyRows(regionsDir.resolve("shapley-regions.tsv"));
+        java.util.Set<String> members = new java.util.HashSet<>();
+        for (List<String> set : TruthFile.decoderMinimumSets(truth)) {
+            members.addAll(set);
+        }
+        for (String m : members) {
+            for (String d : TruthFile.decoys(truth)) {
+                assertTrue(Double.parseDouble(regions.get(m)[1]) > Double.parseDouble(regions.get(d)[1]),
+                        m + " vs decoy " + d + ":\n" + r.out());
+            }
+        }
+        List<String> pairRegions = new ArrayList<>();
+        TruthFile.read(truth).get("designed").get("synergistic_pair").get("regions").forEach(x -> pairRegions.add(x.asText()));
+        String row = java.nio.file.Files.readAllLines(regionsDir.resolve("shapley-regions-pairs.tsv")).stream()
+                .filter(l -> l.startsWith(pairRegions.get(0) + "\t" + pairRegions.get(1))
+                        || l.startsWith(pairRegions.get(1) + "\t" + pairRegions.get(0)))
+                .findFirst().orElseThrow(() -> new AssertionError("the pair " + pairRegions + " is not among the top "
+                        + "players' pairs:\n" + r.out()));
+        assertTrue(Double.parseDouble(row.split("\t")[4]) > 0, "the synergistic pair's interval is above zero: " + row);
+    }
+
+    private static java.util.Map<String, String[]> shapleyRows(Path tsv) throws java.io.IOException {
+        java.util.Map<String, String[]> out = new java.util.HashMap<>();
+        List<String> lines = java.nio.file.Files.readAllLines(tsv);
+        for (String line : lines.subList(1, lines.size())) {
+            String[] f = line.split("\t");
+            out.put(f[0], f);
+        }
+        return out;
+    }
+
     // Must show: on the CI cohort, grow+prune (and genetic) find a critical set no larger than the smallest in the
     // decoder's own truth on the search part, and say whether the confirmation part confirms it.
     @org.junit.jupiter.params.ParameterizedTest
