@@ -102,6 +102,22 @@ class ShapleyCommandTest {
         }
     }
 
+    // The screen is a labelled shortcut: the output names the players that took it and checks a sample of them on
+    // the full game; the designed regions never take it (their marginals differ between the two contexts).
+    @Test
+    void theScreenIsLabelledAndChecked(@TempDir Path dir) throws Exception {
+        Cli.Run r = Cli.run("shapley", "--model", DemoData.MODEL.toString(), "--cohort", DemoData.COHORT.toString(),
+                "--players", "regions", "--screen", "0.002", "--budget", "2500", "--interactions", "0", "--out",
+                dir.toString()).requireSuccess();
+        String line = r.out().lines().filter(l -> l.startsWith("Screen (202 scored sets):")).findFirst()
+                .orElseThrow(() -> new AssertionError(r.out()));
+        assertTrue(line.contains("a shortcut: two contexts cannot prove additivity"), line);
+        for (String planted : List.of("fjord-13", "ember-04", "cinder-10", "delta-11", "ember-09")) {
+            assertTrue(!line.contains(planted + ",") && !line.endsWith(planted), planted + " took the shortcut: " + line);
+        }
+        assertEquals(3, r.out().lines().filter(l -> l.startsWith("Screen check of ")).count(), r.out());
+    }
+
     @Test
     void badOptionsAreNamed(@TempDir Path dir) {
         Cli.Run exact = Cli.run("shapley", "--model", DemoData.MODEL.toString(), "--cohort", DemoData.COHORT.toString(),

@@ -89,6 +89,17 @@ public final class ShapleyCommand implements Callable<Integer> {
                     + "Default: ${DEFAULT-VALUE}.")
     int interactionDraws;
 
+    @Option(names = "--screen", paramLabel = "TOL",
+            description = "With permutations or antithetic: first lesion each player alone and leave each out (2 x "
+                    + "players + 2 scored sets); players whose two marginals agree within TOL take the mean as their "
+                    + "value (a labelled shortcut: two contexts cannot prove additivity) and sampling is spent on the "
+                    + "rest; --screen-check of them are checked by sampling the full game.")
+    Double screen;
+
+    @Option(names = "--screen-check", defaultValue = "3", paramLabel = "K",
+            description = "Screened players checked by sampling the full game (seeded choice). Default: ${DEFAULT-VALUE}.")
+    int screenCheck;
+
     @Option(names = "--seed", defaultValue = "1", paramLabel = "N", description = "Seed of the permutations. Default: ${DEFAULT-VALUE}.")
     long seed;
 
@@ -158,6 +169,10 @@ public final class ShapleyCommand implements Callable<Integer> {
             throw new CommandLine.ParameterException(spec.commandLine(), "--estimator regression takes plain players "
                     + "(not nested) and a budget of at least 2 x players + 2 = " + (2L * n + 2) + " scored sets");
         }
+        if (screen != null && (!(screen >= 0) || kind.equals("nested") || screenCheck < 0)) {
+            throw new CommandLine.ParameterException(spec.commandLine(), "--screen takes a tolerance of 0 or more, plain "
+                    + "players (not nested) and --screen-check of 0 or more");
+        }
         boolean exact = est.equals("exact")
                 || est.equals("auto") && n <= ExactShapley.MAX_PLAYERS && ExactShapley.cost(n) <= budget;
         String command = String.join(" ", spec.commandLine().getParseResult().originalArgs());
@@ -212,9 +227,30 @@ public final class ShapleyCommand implements Callable<Integer> {
                 stop = "exact";
             } else {
                 boolean anti = !est.equals("permutations");
+                org.cruxset.search.shapley.Screen.Result screened = null;
+                int[] restPlayers = null;
+                org.cruxset.search.shapley.Game played = game;
+                if (screen != null) {
+                    screened = org.cruxset.search.shapley.Screen.run(game, screen);
+                    List<Integer> rest = new ArrayList<>();
+                    List<String> took = new ArrayList<>();
+                    for (int i = 0; i < n; i++) {
+                        if (screened.screened()[i]) {
+                            took.add(names.get(i));
+                        } else {
+                            rest.add(i);
+                        }
+                    }
+                    restPlayers = rest.stream().mapToInt(Integer::intValue).toArray();
+                    pw.printf(Locale.ROOT, "Screen (%d scored sets): %d of %d players have add-one-in and leave-one-out "
+                                    + "marginals within %.4g and take their mean as value (a shortcut: two contexts "
+                                    + "cannot prove additivity): %s%n", org.cruxset.search.shapley.Screen.cost(n),
+                            took.size(), n, screen, took.isEmpty() ? "none" : String.join(", ", took));
+                    played = org.cruxset.search.shapley.Screen.rest(game, screened.screened(), restPlayers);
+                }
                 PermutationShapley.Sampler sampler = unionOf != null
                         ? org.cruxset.search.shapley.OwenValues.sampler(game, unionOf, anti, seed)
-                        : new PermutationShapley.Sampler(game, anti, seed);
+                        : new PermutationShapley.Sampler(played, anti, seed);
                 pw.printf(Locale.ROOT, "Estimator: %s %s sampling (Castro, Gomez & Tejada 2009), %d scored "
                         + "sets per draw; stops at a 95%% half-width of %.4g for every player or at the budget of %d.%n",
                         anti ? "antithetic" : "plain", unionOf != null ? "order (networks kept together)"
@@ -232,13 +268,15 @@ public final class ShapleyCommand implements Callable<Integer> {
                             + "quarter of the budget.%n", draws, interactionDraws, pairs);
                 }
                 long pairCost = m < 2 ? 0 : pairs * org.cruxset.search.shapley.InteractionSampler.cost(draws);
-                ctx.reserve(pairCost);
+                long checkCost = screened != null && screened.count() > 0 && screenCheck > 0
+                        ? SCREEN_CHECK_DRAWS * 2L * (n + 1) : 0;
+                ctx.reserve(pairCost + checkCost);
                 try {
                     while (true) {
                         sampler.draw(sampler.draws() < 2 ? 2 : 1);
                         Estimate now = sampler.estimate();
                         double max = 0;
-                        for (int i = 0; i < n; i++) {
+                        for (int i = 0; i < now.values().length; i++) {
                             max = Math.max(max, now.halfWidth(i));
                         }
                         widest[0] = max;
@@ -255,9 +293,24 @@ public final class ShapleyCommand implements Callable<Integer> {
                     bar.done();
                     throw new CommandLine.ParameterException(spec.commandLine(), "--budget " + budget + " does not "
                             + "cover two draws of " + sampler.costPerDraw() + " scored sets each"
-                            + (pairCost > 0 ? " beside the " + pairCost + " kept for interactions" : ""));
+                            + (pairCost + checkCost > 0 ? " beside the " + (pairCost + checkCost) + " kept for "
+                            + "interactions and the screen check" : ""));
                 }
                 ctx.reserve(0);
+                if (screened != null) {
+                    double[] val = new double[n];
+                    double[] se = new double[n];
+                    for (int i = 0; i < n; i++) {
+                        val[i] = screened.value(i);
+                    }
+                    for (int k = 0; k < restPlayers.length; k++) {
+                        val[restPlayers[k]] = e.value(k);
+                        se[restPlayers[k]] = e.standardErrors()[k];
+                    }
+                    e = new Estimate(e.estimator() + " after a screen", val, se, e.evaluations()
+                            + org.cruxset.search.shapley.Screen.cost(n));
+                    checkScreen(pw, game, screened, names, anti);
+                }
                 if (m >= 2) {
                     Estimate fixed = e;
                     List<Integer> top = new ArrayList<>();
@@ -372,6 +425,39 @@ public final class ShapleyCommand implements Callable<Integer> {
         pw.println(".");
     }
 
+
+    /** Antithetic draws of the full game behind the screen check. */
+    private static final int SCREEN_CHECK_DRAWS = 3;
+
+    /** Checks a seeded sample of the screened players by antithetic sampling of the full game. */
+    private void checkScreen(PrintWriter pw, org.cruxset.search.shapley.Game game,
+                             org.cruxset.search.shapley.Screen.Result screened, List<String> names, boolean anti) {
+        List<Integer> took = new ArrayList<>();
+        for (int i = 0; i < names.size(); i++) {
+            if (screened.screened()[i]) {
+                took.add(i);
+            }
+        }
+        if (took.isEmpty() || screenCheck == 0) {
+            return;
+        }
+        Collections.shuffle(took, new java.util.Random(seed));
+        List<Integer> check = took.subList(0, Math.min(screenCheck, took.size()));
+        PermutationShapley.Sampler full = new PermutationShapley.Sampler(game, true, seed + 7);
+        try {
+            full.draw(SCREEN_CHECK_DRAWS);
+        } catch (StopSearch s) {
+            pw.println("Screen check: the budget ran out before the check.");
+            return;
+        }
+        Estimate f = full.estimate();
+        for (int i : check) {
+            boolean agrees = Math.abs(f.value(i) - screened.value(i)) <= f.halfWidth(i) + screen;
+            pw.printf(Locale.ROOT, "Screen check of %s: shortcut %.4f, full-game sampling %.4f +- %.4f (%d antithetic "
+                    + "draws): %s%n", names.get(i), screened.value(i), f.value(i), f.halfWidth(i), full.draws(),
+                    agrees ? "agrees" : "DISAGREES (the shortcut does not hold for it; rerun without --screen)");
+        }
+    }
 
     private void printSampled(PrintWriter pw, List<String> names,
                               List<org.cruxset.search.shapley.InteractionSampler.Pair> sampled, String kind) {

@@ -322,6 +322,33 @@ class ShapleyGamesTest {
         assertTrue(coverage >= 0.92 && coverage <= 0.97, "coverage " + coverage);
     }
 
+    // The screen: in a game where some players are additive, they take the shortcut with their exact values, and the
+    // others' values from the game among them (screened players held in) equal the full game's.
+    @Test
+    void theScreenTakesAdditivePlayersAndKeepsTheOthersValues() {
+        double[] a = {0.1, 0.2, 0.05, 0.3, 0.15};
+        Game g = game(5, s -> {
+            double v = 0;
+            for (int p : s.positions()) {
+                v += a[p];
+            }
+            return v + (s.contains(0) && s.contains(1) ? 0.4 : 0);
+        });
+        double[] exact = ExactShapley.values(g).values();
+        Screen.Result r = Screen.run(g, 1e-9);
+        assertTrue(!r.screened()[0] && !r.screened()[1], "the synergistic pair is not additive");
+        for (int i = 2; i < 5; i++) {
+            assertTrue(r.screened()[i], "player " + i + " is additive");
+            assertEquals(exact[i], r.value(i), 1e-12);
+        }
+        Estimate rest = ExactShapley.values(Screen.rest(g, r.screened(), new int[] {0, 1}));
+        assertEquals(exact[0], rest.value(0), 1e-12);
+        assertEquals(exact[1], rest.value(1), 1e-12);
+        // Two contexts cannot prove additivity: a player whose effect shows only in middle-sized coalitions passes.
+        Game fooled = game(4, s -> s.size() == 2 && s.contains(3) ? 0.5 : 0);
+        assertTrue(Screen.run(fooled, 1e-9).screened()[3], "the screen is fooled, as the output says it can be");
+    }
+
     static double slope(double[] x, double[] y) {
         double mx = 0;
         double my = 0;
