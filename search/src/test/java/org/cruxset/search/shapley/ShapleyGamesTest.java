@@ -349,6 +349,25 @@ class ShapleyGamesTest {
         assertTrue(Screen.run(fooled, 1e-9).screened()[3], "the screen is fooled, as the output says it can be");
     }
 
+    // The redundancy trap: an any-of-K game (any member suffices) and a unanimity game (all are needed) give their K
+    // members equal values, 1/K each (analytic, by symmetry and efficiency), though their minimal lesion sets differ
+    // (all K members against any one).
+    @Test
+    void anyOfKAndUnanimityGamesGiveEqualValues() {
+        int n = 6;
+        int k = 3;
+        Estimate any = ExactShapley.values(game(n, s -> count(s, 0, k) > 0 ? 1 : 0));
+        Estimate all = ExactShapley.values(game(n, s -> count(s, 0, k) == k ? 1 : 0));
+        for (int i = 0; i < k; i++) {
+            assertEquals(1.0 / k, any.value(i), 1e-12);
+            assertEquals(1.0 / k, all.value(i), 1e-12);
+        }
+        for (int i = k; i < n; i++) {
+            assertEquals(0, any.value(i), 1e-12);
+            assertEquals(0, all.value(i), 1e-12);
+        }
+    }
+
     static double slope(double[] x, double[] y) {
         double mx = 0;
         double my = 0;
