@@ -49,16 +49,7 @@ public final class InteractionSampler {
             List<RegionSet> batch = new ArrayList<>(4 * draws);
             for (int d = 0; d < draws; d++) {
                 int size = rng.nextInt(n - 1);
-                // a uniform subset of `size` of the others: the first `size` of a partial shuffle
-                int[] o = others.clone();
-                RegionSet s = RegionSet.empty(n);
-                for (int a = 0; a < size; a++) {
-                    int b = a + rng.nextInt(o.length - a);
-                    int t = o[a];
-                    o[a] = o[b];
-                    o[b] = t;
-                    s = s.with(o[a]);
-                }
+                RegionSet s = PermutationShapley.randomSubset(others, size, n, rng);
                 batch.add(s.with(i).with(j));
                 batch.add(s.with(i));
                 batch.add(s.with(j));

@@ -131,6 +131,23 @@ public final class PermutationShapley {
         return out;
     }
 
+    /**
+     * A uniform random subset of {@code size} of the players in {@code pool}, as a coalition over {@code n} players:
+     * the first {@code size} of a partial shuffle of a copy of the pool.
+     */
+    static RegionSet randomSubset(int[] pool, int size, int n, SplittableRandom rng) {
+        int[] o = pool.clone();
+        RegionSet s = RegionSet.empty(n);
+        for (int a = 0; a < size; a++) {
+            int b = a + rng.nextInt(o.length - a);
+            int t = o[a];
+            o[a] = o[b];
+            o[b] = t;
+            s = s.with(o[a]);
+        }
+        return s;
+    }
+
     static int[] shuffled(int n, SplittableRandom rng) {
         int[] a = new int[n];
         for (int i = 0; i < n; i++) {

@@ -50,15 +50,7 @@ public final class StratifiedShapley {
             List<RegionSet> batch = new ArrayList<>(2 * n * perStratum);
             for (int k = 0; k < n; k++) {
                 for (int d = 0; d < perStratum; d++) {
-                    int[] o = others.clone();
-                    RegionSet s = RegionSet.empty(n);
-                    for (int a = 0; a < k; a++) {
-                        int b = a + rng.nextInt(o.length - a);
-                        int t = o[a];
-                        o[a] = o[b];
-                        o[b] = t;
-                        s = s.with(o[a]);
-                    }
+                    RegionSet s = PermutationShapley.randomSubset(others, k, n, rng);
                     batch.add(s.with(i));
                     batch.add(s);
                 }
