@@ -54,10 +54,13 @@ class ShapleyGamesTest {
         assertEquals(5.0 * 720 * 24 / factorial(11), 1.0 / 462, 1e-15);
     }
 
-    // Source: the 15-member Security Council since 1965 as a weighted voting game, weights 7 (permanent) and 1, quota
-    // 39: 421/2145 and 4/2145 (values from memory). Checked analytically here: a non-permanent member is pivotal when
-    // all 5 permanent members and exactly 3 of the other 9 come before it, C(9,3) × 8! × 6! / 15! = 4/2145, and the
-    // permanent members share the rest equally.
+    // Source: the 15-member Security Council since 1965 as the weighted voting game [39; 7×5, 1×10] (representation as
+    // given in M. Brodie, "Power Voting Systems Like the United Nations Security Council", Wolfram Demonstrations
+    // Project); 4/2145 per elected member derived there by the same count, 84 × 6! × 8! / 15!, in the article
+    // "Is it me, or is 'Veto' starting to sound really good" (Gonit Sora). 421/2145 for a permanent member is the
+    // remainder shared equally (efficiency). No textbook page could be consulted here; the textbook values are from
+    // memory. Checked analytically as well: an elected member is pivotal when all 5 permanent members and exactly 3 of
+    // the other 9 come before it, C(9,3) × 8! × 6! / 15!.
     @Test
     void theFifteenMemberSecurityCouncil() {
         Game g = game(15, s -> 7 * count(s, 0, 5) + count(s, 5, 15) >= 39 ? 1 : 0);
