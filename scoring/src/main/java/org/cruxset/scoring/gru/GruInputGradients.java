@@ -140,8 +140,8 @@ public final class GruInputGradients {
                     float[] hp = hs[l][b];
                     int o = t * h;
                     for (int j = 0; j < h; j++) {
-                        float z = NativeGruDecoder.sigmoid(pre[b][j] + rec[b][j]);
-                        float r = NativeGruDecoder.sigmoid(pre[b][h + j] + rec[b][h + j]);
+                        float z = org.cruxset.scoring.kernel.Activations.sigmoid(pre[b][j] + rec[b][j]);
+                        float r = org.cruxset.scoring.kernel.Activations.sigmoid(pre[b][h + j] + rec[b][h + j]);
                         zs[l][b][o + j] = z;
                         rs[l][b][o + j] = r;
                         q[b][j] = r * hp[o + j];
@@ -158,9 +158,9 @@ public final class GruInputGradients {
                         float c;
                         if (lbr[l]) {
                             us[l][b][o + j] = recH[b][j];
-                            c = NativeGruDecoder.tanh(pre[b][2 * h + j] + r * recH[b][j]);
+                            c = org.cruxset.scoring.kernel.Activations.tanh(pre[b][2 * h + j] + r * recH[b][j]);
                         } else {
-                            c = NativeGruDecoder.tanh(pre[b][2 * h + j] + recH[b][j]);
+                            c = org.cruxset.scoring.kernel.Activations.tanh(pre[b][2 * h + j] + recH[b][j]);
                         }
                         cs[l][b][o + j] = c;
                         float z = zs[l][b][o + j];

@@ -10,6 +10,10 @@ import org.cruxset.scoring.decoder.InputMask;
 import org.cruxset.scoring.decoder.LesionFill;
 import org.cruxset.scoring.decoder.ModelCard;
 import org.cruxset.scoring.internal.Parallel;
+import org.cruxset.scoring.kernel.Activations;
+import org.cruxset.scoring.kernel.Kernels;
+import org.cruxset.scoring.kernel.PackedMatrix;
+import org.cruxset.scoring.kernel.EngineKernels;
 
 /**
  * Cruxset's own engine for {@link GruNetwork}s: single precision, the ONNX GRU operator's semantics, built to score
@@ -24,8 +28,8 @@ import org.cruxset.scoring.internal.Parallel;
  * (default {@value #DEFAULT_CACHE_MB}) or the constructor argument, every set is projected in full instead.
  *
  * <p>Samples are sorted by length and run in blocks; at each step the block's active samples are a prefix and the
- * recurrence is a matrix product over them. Sigmoid and tanh are the rational approximations of ONNX Runtime's MLAS
- * library (absolute error below 3e-7). Thread-safe.
+ * recurrence is a matrix product over them, run on {@link Kernels#get()} (the Vector API when present). Sigmoid and
+ * tanh are {@link Activations}. Thread-safe.
  */
 public final class NativeGruDecoder implements Decoder {
     /** System property holding the projection cache limit in MB (2^20 bytes). */
@@ -165,161 +169,18 @@ public final class NativeGruDecoder implements Decoder {
         return z;
     }
 
-    // ---------------------------------------------------------------- activations
-
-    private static final float TANH_A13 = -2.76076847742355e-16f;
-    private static final float TANH_A11 = 2.00018790482477e-13f;
-    private static final float TANH_A9 = -8.60467152213735e-11f;
-    private static final float TANH_A7 = 5.12229709037114e-08f;
-    private static final float TANH_A5 = 1.48572235717979e-05f;
-    private static final float TANH_A3 = 6.37261928875436e-04f;
-    private static final float TANH_A1 = 4.89352455891786e-03f;
-    private static final float TANH_B6 = 1.19825839466702e-06f;
-    private static final float TANH_B4 = 1.18534705686654e-04f;
-    private static final float TANH_B2 = 2.26843463243900e-03f;
-    private static final float TANH_B0 = 4.89352518554385e-03f;
-
-    /** tanh as an odd rational function of degree 13/6 on [-9, 9], clamped outside (ONNX Runtime's MLAS form). */
-    static float tanh(float v) {
-        float x = Math.max(-9f, Math.min(9f, v));
-        float x2 = x * x;
-        float p = Math.fma(Math.fma(Math.fma(Math.fma(Math.fma(Math.fma(TANH_A13, x2, TANH_A11), x2, TANH_A9), x2,
-                TANH_A7), x2, TANH_A5), x2, TANH_A3), x2, TANH_A1) * x;
-        float q = Math.fma(Math.fma(Math.fma(TANH_B6, x2, TANH_B4), x2, TANH_B2), x2, TANH_B0);
-        return p / q;
-    }
-
-    /** The logistic function as {@code (1 + tanh(v/2)) / 2}. */
-    static float sigmoid(float v) {
-        return Math.fma(0.5f, tanh(0.5f * v), 0.5f);
-    }
-
     // ---------------------------------------------------------------- kernels
 
-    /**
-     * {@code out[i][0..m) += Σ_{j<k} in[i][off + j] · w[j][0..m)} for rows {@code i < rows}: four rows and two inputs
-     * at a time, so that each loaded weight vector serves four samples.
-     */
+    private static final EngineKernels KERNELS = Kernels.get();
+
+    /** {@code out[i][0..m) += Σ_{j<k} in[i][off + j] · w[j][0..m)} for rows {@code i < rows}, on this JVM's kernels. */
     static void gemm(float[][] in, int off, float[][] w, float[][] out, int rows, int k, int m) {
-        int i = 0;
-        for (; i + 4 <= rows; i += 4) {
-            float[] x0 = in[i];
-            float[] x1 = in[i + 1];
-            float[] x2 = in[i + 2];
-            float[] x3 = in[i + 3];
-            float[] y0 = out[i];
-            float[] y1 = out[i + 1];
-            float[] y2 = out[i + 2];
-            float[] y3 = out[i + 3];
-            int j = 0;
-            for (; j + 2 <= k; j += 2) {
-                int o = off + j;
-                axpy4x2(w[j], w[j + 1], x0[o], x0[o + 1], x1[o], x1[o + 1], x2[o], x2[o + 1], x3[o], x3[o + 1],
-                        y0, y1, y2, y3, m);
-            }
-            if (j < k) {
-                int o = off + j;
-                axpy4x1(w[j], x0[o], x1[o], x2[o], x3[o], y0, y1, y2, y3, m);
-            }
-        }
-        for (; i < rows; i++) {
-            float[] x0 = in[i];
-            float[] y0 = out[i];
-            int j = 0;
-            for (; j + 2 <= k; j += 2) {
-                axpy1x2(w[j], w[j + 1], x0[off + j], x0[off + j + 1], y0, m);
-            }
-            if (j < k) {
-                axpy1x1(w[j], x0[off + j], y0, m);
-            }
-        }
+        KERNELS.gemm(in, off, w, out, rows, k, m);
     }
 
-    private static void axpy4x2(float[] w0, float[] w1, float a0, float a1, float b0, float b1, float c0, float c1,
-                                float d0, float d1, float[] y0, float[] y1, float[] y2, float[] y3, int m) {
-        for (int g = 0; g < m; g++) {
-            float u = w0[g];
-            float v = w1[g];
-            y0[g] = Math.fma(v, a1, Math.fma(u, a0, y0[g]));
-            y1[g] = Math.fma(v, b1, Math.fma(u, b0, y1[g]));
-            y2[g] = Math.fma(v, c1, Math.fma(u, c0, y2[g]));
-            y3[g] = Math.fma(v, d1, Math.fma(u, d0, y3[g]));
-        }
-    }
-
-    private static void axpy4x1(float[] w0, float a0, float b0, float c0, float d0,
-                                float[] y0, float[] y1, float[] y2, float[] y3, int m) {
-        for (int g = 0; g < m; g++) {
-            float u = w0[g];
-            y0[g] = Math.fma(u, a0, y0[g]);
-            y1[g] = Math.fma(u, b0, y1[g]);
-            y2[g] = Math.fma(u, c0, y2[g]);
-            y3[g] = Math.fma(u, d0, y3[g]);
-        }
-    }
-
-    private static void axpy1x2(float[] w0, float[] w1, float a0, float a1, float[] y0, int m) {
-        for (int g = 0; g < m; g++) {
-            y0[g] = Math.fma(w1[g], a1, Math.fma(w0[g], a0, y0[g]));
-        }
-    }
-
-    private static void axpy1x1(float[] w0, float a0, float[] y0, int m) {
-        for (int g = 0; g < m; g++) {
-            y0[g] = Math.fma(w0[g], a0, y0[g]);
-        }
-    }
-
-    /*
-     * The gate loops below index every array they touch with the same expression: a loop that reads one array at
-     * j and another at hid + j is not vectorised by the JIT (measured 4x slower), so parts of rows are moved with
-     * System.arraycopy instead.
-     */
-
-    /**
-     * One step of a linear-before-reset cell for one sample: {@code x} holds the input projections of z, r, h,
-     * {@code g} the recurrent ones (without Rb_h), {@code rbh3} is Rb_h at [2H, 3H); updates {@code h} in place.
-     */
-    static void stepLinearBeforeReset(float[] x, float[] g, float[] rbh3, float[] h, float[] s, float[] c, int hid) {
-        int h2 = 2 * hid;
-        int h3 = 3 * hid;
-        for (int j = 0; j < h2; j++) {
-            s[j] = sigmoid(x[j] + g[j]);
-        }
-        System.arraycopy(s, hid, s, h2, hid);
-        for (int j = h2; j < h3; j++) {
-            s[j] = tanh(x[j] + s[j] * (g[j] + rbh3[j]));
-        }
-        System.arraycopy(s, h2, c, 0, hid);
-        for (int j = 0; j < hid; j++) {
-            float v = c[j];
-            h[j] = v + s[j] * (h[j] - v);
-        }
-    }
-
-    /** The z and r gates of a reset-before-linear cell: writes z into {@code z} and {@code r⊙h} into {@code rh}. */
-    static void resetGates(float[] x, float[] g, float[] h, float[] z, float[] rh, float[] s, float[] c, int hid) {
-        int h2 = 2 * hid;
-        for (int j = 0; j < h2; j++) {
-            s[j] = sigmoid(x[j] + g[j]);
-        }
-        System.arraycopy(s, 0, z, 0, hid);
-        System.arraycopy(s, hid, c, 0, hid);
-        for (int j = 0; j < hid; j++) {
-            rh[j] = c[j] * h[j];
-        }
-    }
-
-    /** The candidate and update of a reset-before-linear cell, {@code g} holding {@code R_h·(r⊙h)}; updates {@code h}. */
-    static void candidate(float[] x, float[] g, float[] rbh, float[] z, float[] h, float[] c, int hid) {
-        System.arraycopy(x, 2 * hid, c, 0, hid);
-        for (int j = 0; j < hid; j++) {
-            c[j] = tanh(c[j] + g[j] + rbh[j]);
-        }
-        for (int j = 0; j < hid; j++) {
-            float v = c[j];
-            h[j] = v + z[j] * (h[j] - v);
-        }
+    /** {@code out[i] += in[i][off ..] · w} for rows {@code i < rows}, on this JVM's kernels. */
+    private static void gemm(float[][] in, int off, PackedMatrix w, float[][] out, int rows) {
+        KERNELS.gemm(in, off, w, out, rows);
     }
 
     // ---------------------------------------------------------------- layers and bound batches
@@ -343,6 +204,11 @@ public final class NativeGruDecoder implements Decoder {
         final float[] rbh;
         /** [3H]: zero, then Rb_h at [2H, 3H). */
         final float[] rbh3;
+        /** {@link #wt}, {@link #rt}, {@link #rzr} and {@link #rh} packed for the kernels (null where those are). */
+        final PackedMatrix wp;
+        final PackedMatrix rp;
+        final PackedMatrix rzrp;
+        final PackedMatrix rhp;
 
         Layer(GruLayer layer) {
             input = layer.input();
@@ -389,6 +255,10 @@ public final class NativeGruDecoder implements Decoder {
             rbh = Arrays.copyOfRange(rb, 2 * h, g3);
             rbh3 = new float[g3];
             System.arraycopy(rbh, 0, rbh3, 2 * h, h);
+            wp = KERNELS.pack(wt, g3);
+            rp = lbr ? KERNELS.pack(rt, g3) : null;
+            rzrp = lbr ? null : KERNELS.pack(rzr, 2 * h);
+            rhp = lbr ? null : KERNELS.pack(rh, h);
         }
     }
 
@@ -544,7 +414,7 @@ public final class NativeGruDecoder implements Decoder {
                     for (int i = 0; i < act; i++) {
                         System.arraycopy(first.bias, 0, x[i], 0, g3);
                     }
-                    gemm(in, t * regions, first.wt, x, act, regions, g3);
+                    gemm(in, t * regions, first.wp, x, act);
                     for (int i = 0; i < act; i++) {
                         System.arraycopy(x[i], 0, proj[order[b0 + i]], t * g3, g3);
                     }
@@ -594,7 +464,7 @@ public final class NativeGruDecoder implements Decoder {
                     for (int i = 0; i < act; i++) {
                         System.arraycopy(layer.bias, 0, sc.x[i], 0, lg3);
                     }
-                    gemm(sc.h[l - 1], 0, layer.wt, sc.x, act, layer.input, lg3);
+                    gemm(sc.h[l - 1], 0, layer.wp, sc.x, act);
                     step(layer, sc, l, act);
                 }
             }
@@ -759,22 +629,22 @@ public final class NativeGruDecoder implements Decoder {
                 for (int i = 0; i < act; i++) {
                     Arrays.fill(sc.g[i], 0, g3, 0f);
                 }
-                gemm(h, 0, layer.rt, sc.g, act, hid, g3);
+                gemm(h, 0, layer.rp, sc.g, act);
                 for (int i = 0; i < act; i++) {
-                    stepLinearBeforeReset(sc.x[i], sc.g[i], layer.rbh3, h[i], sc.s, sc.c, hid);
+                    KERNELS.gruLinearBeforeReset(sc.x[i], sc.g[i], layer.rbh3, h[i], sc.s, sc.c, hid);
                 }
             } else {
                 for (int i = 0; i < act; i++) {
                     Arrays.fill(sc.g[i], 0, 2 * hid, 0f);
                 }
-                gemm(h, 0, layer.rzr, sc.g, act, hid, 2 * hid);
+                gemm(h, 0, layer.rzrp, sc.g, act);
                 for (int i = 0; i < act; i++) {
-                    resetGates(sc.x[i], sc.g[i], h[i], sc.z[i], sc.rh[i], sc.s, sc.c, hid);
+                    KERNELS.gruResetGates(sc.x[i], sc.g[i], h[i], sc.z[i], sc.rh[i], sc.s, sc.c, hid);
                     Arrays.fill(sc.g[i], 0, hid, 0f);
                 }
-                gemm(sc.rh, 0, layer.rh, sc.g, act, hid, hid);
+                gemm(sc.rh, 0, layer.rhp, sc.g, act);
                 for (int i = 0; i < act; i++) {
-                    candidate(sc.x[i], sc.g[i], layer.rbh, sc.z[i], h[i], sc.c, hid);
+                    KERNELS.gruCandidate(sc.x[i], sc.g[i], layer.rbh, sc.z[i], h[i], sc.c, hid);
                 }
             }
         }

@@ -262,13 +262,13 @@ class NativeGruDecoderTest {
         double s = 0;
         for (double v = -30; v <= 30; v += 1e-3) {
             float f = (float) v;
-            t = Math.max(t, Math.abs(NativeGruDecoder.tanh(f) - Math.tanh(f)));
-            s = Math.max(s, Math.abs(NativeGruDecoder.sigmoid(f) - 1 / (1 + Math.exp(-(double) f))));
+            t = Math.max(t, Math.abs(org.cruxset.scoring.kernel.Activations.tanh(f) - Math.tanh(f)));
+            s = Math.max(s, Math.abs(org.cruxset.scoring.kernel.Activations.sigmoid(f) - 1 / (1 + Math.exp(-(double) f))));
         }
         assertTrue(t < 5e-7, "tanh error " + t);
         assertTrue(s < 5e-7, "sigmoid error " + s);
-        assertEquals(1f, NativeGruDecoder.tanh(Float.POSITIVE_INFINITY), 1e-6f);
-        assertEquals(0f, NativeGruDecoder.sigmoid(Float.NEGATIVE_INFINITY), 1e-6f);
+        assertEquals(1f, org.cruxset.scoring.kernel.Activations.tanh(Float.POSITIVE_INFINITY), 1e-6f);
+        assertEquals(0f, org.cruxset.scoring.kernel.Activations.sigmoid(Float.NEGATIVE_INFINITY), 1e-6f);
     }
 
     @Test
