@@ -36,6 +36,14 @@ public final class OnnxModels {
 
     /** Loads the model file as a decoder; unreadable, inconsistent or unsupported models raise IllegalArgumentException naming the file. */
     public static Decoder load(Path model, OnnxOptions options) {
+        return load(model, options, 1);
+    }
+
+    /**
+     * {@link #load(Path, OnnxOptions)} with {@code intraOpThreads} ONNX Runtime intra-op threads per run instead of
+     * one (the benchmark's second configuration: all cores inside each run, one caller).
+     */
+    public static Decoder load(Path model, OnnxOptions options, int intraOpThreads) {
         Objects.requireNonNull(model, "model");
         Objects.requireNonNull(options, "options");
         byte[] bytes;
@@ -118,9 +126,9 @@ public final class OnnxModels {
         ModelCard card = card(model, regions, regionNames, labels, pre, ONNXRUNTIME, reason, hash, meta);
         OnnxGruReader.Output kind = canonical != null ? canonical.output() : sig.outputKind();
         try {
-            // One intra-op thread per run; runs go in parallel over the caller's threads. Measured on 2 cores with the
-            // bench workload: 1.7-2.8 scored sets/s, against 1.45-2.04 with all cores intra-op as well (oversubscribed).
-            return new OnnxRuntimeDecoder(bytes, card, layout, kind, sig.output(), 1);
+            // By default one intra-op thread per run; runs go in parallel over the caller's threads (bench measures
+            // this against all-core intra-op runs with one caller and prints both).
+            return new OnnxRuntimeDecoder(bytes, card, layout, kind, sig.output(), intraOpThreads);
         } catch (IllegalArgumentException e) {
             throw new IllegalArgumentException("model " + model + ": " + e.getMessage(), e);
         }

@@ -18,6 +18,8 @@ import org.cruxset.scoring.decoder.Preprocessing;
 import org.cruxset.scoring.gru.GruLayer;
 import org.cruxset.scoring.gru.GruNetwork;
 import org.cruxset.scoring.gru.NativeGruDecoder;
+import org.cruxset.scoring.kernel.Kernels;
+import org.cruxset.scoring.kernel.MachineReference;
 import org.cruxset.scoring.lesion.RegionSet;
 import org.cruxset.scoring.onnx.OnnxGruWriter;
 import org.cruxset.scoring.onnx.OnnxModels;
@@ -36,8 +38,11 @@ import picocli.CommandLine.Spec;
                 + "a random GRU classifier written as ONNX and loaded by both engines, random inputs and random zero-fill "
                 + "lesion sets. A scored set is one set decoded on every sample.",
             "",
-            "ONNX Runtime is measured as Cruxset loads it: one intra-op thread per run, runs spread over --threads callers. "
-                + "The engines alternate in rounds so that background load affects both alike."
+            "ONNX Runtime is measured in two configurations: as Cruxset loads it (one intra-op thread per run, runs spread "
+                + "over --threads callers) and with --threads intra-op threads per run and one caller. The engines "
+                + "alternate in rounds so that background load affects all alike. Also printed: useful GFLOP/s, a "
+                + "blocked float32 matrix product as the machine reference, the theoretical FMA peak where the OS "
+                + "reports vector width and clock, the projection cache against its limit, and peak memory."
         })
 public final class BenchCommand implements Callable<Integer> {
     /** Lesion sets per probabilities call. */
@@ -215,16 +220,26 @@ public final class BenchCommand implements Callable<Integer> {
             throw new UncheckedIOException("cannot write the benchmark model: " + e.getMessage(), e);
         }
         OnnxOptions options = OnnxOptions.defaults();
+        double gflopPerSet = usefulGflopPerSet(net, batch);
+        out.printf(Locale.ROOT, "Useful work per scored set: %.2f GFLOP (recurrence 2 x H x 3H per sample-step, plus the "
+                + "%d-region input correction 2 x %d x 3H)%n", gflopPerSet, lesionSize, lesionSize);
         try (Decoder nat = OnnxModels.load(file, options.withEngine(Engine.NATIVE));
-             Decoder ort = OnnxModels.load(file, options.withEngine(Engine.ONNXRUNTIME))) {
+             Decoder ort = OnnxModels.load(file, options.withEngine(Engine.ONNXRUNTIME));
+             Decoder ortIntra = OnnxModels.load(file, options.withEngine(Engine.ONNXRUNTIME), nThreads)) {
             if (nat instanceof NativeGruDecoder g) {
                 double mb = g.projectionCacheBytes(batch) / (double) (1 << 20);
                 out.printf(Locale.ROOT, "Projection cache: %.1f MB (4 bytes x 3 x %d units x %d sample-steps), limit %d MB: %s%n",
                         mb, hidden, (long) samples * steps, g.projectionCacheLimitMB(),
                         g.cachesProjections(batch) ? "cached" : "not cached, full projection per set");
             }
+            out.printf(Locale.ROOT, "Native kernels: %s%s%n", Kernels.get().name(), Kernels.vectorAvailable() ? ""
+                    : " (module jdk.incubator.vector absent: plain-Java fallback; the cruxset launcher adds it)");
             Meter n = new Meter(OnnxModels.NATIVE, nat.bind(batch), nThreads);
-            List<Meter> meters = new ArrayList<>(List.of(n, new Meter(OnnxModels.ONNXRUNTIME, ort.bind(batch), nThreads)));
+            List<Meter> meters = new ArrayList<>(List.of(n,
+                    new Meter(OnnxModels.ONNXRUNTIME + " (1 intra-op thread per run, " + nThreads + " callers)",
+                            ort.bind(batch), nThreads),
+                    new Meter(OnnxModels.ONNXRUNTIME + " (" + nThreads + " intra-op threads, 1 caller)",
+                            ortIntra.bind(batch), 1)));
             for (Meter m : meters) {
                 m.warmUp(out);
             }
@@ -237,12 +252,23 @@ public final class BenchCommand implements Callable<Integer> {
             }
             Meter best = meters.get(1);
             for (Meter m : meters) {
-                m.report(out);
+                m.report(out, gflopPerSet);
                 if (m != n && m.rate() > best.rate()) {
                     best = m;
                 }
             }
-            out.printf(Locale.ROOT, "Ratio native / %s: %.2f%n", best.engine, n.rate() / best.rate());
+            out.printf(Locale.ROOT, "Ratio native / %s (the faster ONNX Runtime configuration): %.2f%n", best.engine,
+                    n.rate() / best.rate());
+            double reference = MachineReference.blockedProduct(Kernels.get(), nThreads, 5);
+            out.printf(Locale.ROOT, "Machine reference: blocked float32 product [%d x %d] x [%d x %d] on the native "
+                            + "kernels, %d thread%s: %.1f GFLOP/s; native useful work = %.0f%% of it%n",
+                    MachineReference.ROWS, MachineReference.DEPTH, MachineReference.DEPTH, MachineReference.COLUMNS,
+                    nThreads, nThreads == 1 ? "" : "s", reference, 100 * n.rate() * gflopPerSet / reference);
+            MachineReference.reportedPeak().ifPresentOrElse(p -> out.printf(Locale.ROOT,
+                    "Theoretical FMA peak: %.0f GFLOP/s = %s; native useful work = %.0f%% of it%s%n", p.gflops(), p.basis(),
+                    100 * n.rate() * gflopPerSet / p.gflops(), reference > p.gflops()
+                            ? " (the measured reference exceeds it: the reported clock is below the running clock)" : ""),
+                    () -> out.println("Theoretical FMA peak: not reported (no /proc/cpuinfo with flags and cpu MHz)"));
             gradientPass(out, net, batch, n.rate(), nThreads);
             for (Meter m : meters.subList(1, meters.size())) {
                 int common = Math.min(n.results.size(), m.results.size());
@@ -252,6 +278,7 @@ public final class BenchCommand implements Callable<Integer> {
                 }
                 out.printf(Locale.ROOT, "Max |p_native - p_%s| over the %d sets both scored: %.3g%n", m.engine, common, diff);
             }
+            printMemory(out);
         } finally {
             try {
                 Files.deleteIfExists(file);
@@ -260,6 +287,45 @@ public final class BenchCommand implements Callable<Integer> {
             }
         }
         return 0;
+    }
+
+    /** GFLOP of one scored set: every layer's recurrence and input projection beyond layer 0, plus the correction. */
+    private double usefulGflopPerSet(GruNetwork net, InputBatch batch) {
+        long sampleSteps = 0;
+        for (int s = 0; s < batch.size(); s++) {
+            sampleSteps += batch.length(s);
+        }
+        double perStep = 0;
+        for (int l = 0; l < net.layers().size(); l++) {
+            GruLayer layer = net.layers().get(l);
+            int h = layer.hidden();
+            perStep += 2.0 * h * 3 * h;
+            perStep += 2.0 * (l == 0 ? lesionSize : layer.input()) * 3 * h;
+        }
+        return perStep * sampleSteps / 1e9;
+    }
+
+    /** Peak heap (sum of the pools' peaks) and, on Linux, the process's peak resident memory. */
+    private static void printMemory(PrintWriter out) {
+        long heap = 0;
+        for (java.lang.management.MemoryPoolMXBean pool : java.lang.management.ManagementFactory.getMemoryPoolMXBeans()) {
+            if (pool.getType() == java.lang.management.MemoryType.HEAP && pool.getPeakUsage() != null) {
+                heap += pool.getPeakUsage().getUsed();
+            }
+        }
+        String rss = "not reported";
+        try {
+            for (String line : Files.readAllLines(Path.of("/proc/self/status"))) {
+                if (line.startsWith("VmHWM:")) {
+                    rss = String.format(Locale.ROOT, "%.0f MB", Long.parseLong(line.replaceAll("[^0-9]", "")) / 1024.0);
+                }
+            }
+        } catch (IOException | RuntimeException e) {
+            // not Linux: leave "not reported"
+        }
+        out.printf(Locale.ROOT, "Peak memory: heap %.0f MB (sum of the pools' peaks, max heap %.0f MB); process "
+                + "resident peak %s (includes ONNX Runtime's native memory)%n", heap / 1048576.0,
+                Runtime.getRuntime().maxMemory() / 1048576.0, rss);
     }
 
     /**
@@ -375,9 +441,9 @@ public final class BenchCommand implements Callable<Integer> {
             return scored / (nanos / 1e9);
         }
 
-        void report(PrintWriter out) {
-            out.printf(Locale.ROOT, "%-27s %5d sets in %5.1f s = %6.2f scored sets/s%n", engine + ":", scored,
-                    nanos / 1e9, rate());
+        void report(PrintWriter out, double gflopPerSet) {
+            out.printf(Locale.ROOT, "%-58s %5d sets in %5.1f s = %6.2f scored sets/s = %6.1f GFLOP/s useful%n",
+                    engine + ":", scored, nanos / 1e9, rate(), rate() * gflopPerSet);
         }
     }
 
