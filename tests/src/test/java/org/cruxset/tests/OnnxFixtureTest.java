@@ -18,7 +18,7 @@ import java.util.stream.Stream;
 import org.cruxset.scoring.decoder.Decoder;
 import org.cruxset.scoring.decoder.InputBatch;
 import org.cruxset.scoring.decoder.InputMask;
-import org.cruxset.scoring.gru.NativeGruDecoder;
+import org.cruxset.scoring.gru.NativeRecurrentDecoder;
 import org.cruxset.scoring.onnx.OnnxModels;
 import org.cruxset.scoring.onnx.OnnxOptions;
 import org.cruxset.scoring.onnx.OnnxOptions.Engine;
@@ -31,7 +31,7 @@ import org.junit.jupiter.params.provider.MethodSource;
 class OnnxFixtureTest {
     static final double TOLERANCE = 1e-4;
 
-    /** Fixtures that are valid models but not in canonical GRU form, with a word their refusal must name. */
+    /** Fixtures that are valid models but not in canonical GRU or LSTM form, with a word their refusal must name. */
     static final Map<String, String> NON_CANONICAL = Map.of(
             "torch_mlp_head.onnx", "(Relu '/head/head.1/Relu') after the readout Gemm: only Softmax or LogSoftmax may follow",
             "torch_bidirectional.onnx", "GRU direction 'bidirectional' is not forward");
@@ -114,7 +114,7 @@ class OnnxFixtureTest {
         String refusal = NON_CANONICAL.get(name);
         if (refusal == null) {
             try (Decoder auto = OnnxModels.load(f.model(), options)) {
-                assertInstanceOf(NativeGruDecoder.class, auto, why);
+                assertInstanceOf(NativeRecurrentDecoder.class, auto, why);
                 assertEquals(OnnxModels.NATIVE, auto.card().engine());
                 assertTrue(auto.card().engineReason().startsWith("canonical GRU form: "), auto.card().engineReason());
                 System.out.println(name + ": " + auto.card().engineReason());
@@ -123,7 +123,7 @@ class OnnxFixtureTest {
         } else {
             try (Decoder auto = OnnxModels.load(f.model(), options)) {
                 assertEquals(OnnxModels.ONNXRUNTIME, auto.card().engine(), why);
-                assertTrue(auto.card().engineReason().startsWith("not in canonical GRU form: "), auto.card().engineReason());
+                assertTrue(auto.card().engineReason().startsWith("not in canonical GRU or LSTM form: "), auto.card().engineReason());
                 assertTrue(auto.card().engineReason().contains(refusal), auto.card().engineReason());
                 System.out.println(name + ": " + auto.card().engineReason());
             }

@@ -6,7 +6,7 @@ import java.util.List;
  * The float fast path of input gradients: for a block of samples at a time, the forward pass and backpropagation
  * through time of a {@link GruNetwork} (either gate form per layer, stacked layers, the affine readout of each
  * sample's last valid step), every per-step product done for the whole block by the engine's {@link
- * NativeGruDecoder#gemm} kernel. Gives the gradient of each sample's target class score (pre-softmax) or its
+ * NativeRecurrentDecoder#gemm} kernel. Gives the gradient of each sample's target class score (pre-softmax) or its
  * log-probability with respect to every input value. Checked against the double-precision path
  * ({@code train.GruGradients}). Immutable weights; {@link #gradients} may be called from several threads.
  */
@@ -131,10 +131,10 @@ public final class GruInputGradients {
                 }
                 int stride = l == 0 ? in[0] : hid[l - 1];
                 // layer 0 reads the inputs at step t; a higher layer reads the states h_{t+1} of the one below
-                NativeGruDecoder.gemm(input, (l == 0 ? t : t + 1) * stride, wT[l], pre, bn, in[l], g3);
-                NativeGruDecoder.gemm(hs[l], t * h, rTzr[l], rec, bn, h, 2 * h);
+                NativeRecurrentDecoder.gemm(input, (l == 0 ? t : t + 1) * stride, wT[l], pre, bn, in[l], g3);
+                NativeRecurrentDecoder.gemm(hs[l], t * h, rTzr[l], rec, bn, h, 2 * h);
                 if (lbr[l]) {
-                    NativeGruDecoder.gemm(hs[l], t * h, rTh[l], recH, bn, h, h);
+                    NativeRecurrentDecoder.gemm(hs[l], t * h, rTh[l], recH, bn, h, h);
                 }
                 for (int b = 0; b < bn; b++) {
                     float[] hp = hs[l][b];
@@ -148,7 +148,7 @@ public final class GruInputGradients {
                     }
                 }
                 if (!lbr[l]) {
-                    NativeGruDecoder.gemm(q, 0, rTh[l], recH, bn, h, h);
+                    NativeRecurrentDecoder.gemm(q, 0, rTh[l], recH, bn, h, h);
                 }
                 for (int b = 0; b < bn; b++) {
                     float[] hp = hs[l][b];
@@ -255,7 +255,7 @@ public final class GruInputGradients {
                         }
                         java.util.Arrays.fill(dNew[b], 0f);
                     }
-                    NativeGruDecoder.gemm(dRec, 0, rRows[l], dNew, bn, g3, h);
+                    NativeRecurrentDecoder.gemm(dRec, 0, rRows[l], dNew, bn, g3, h);
                 } else {
                     for (int b = 0; b < bn; b++) {
                         java.util.Arrays.fill(dq[b], 0f);
@@ -274,7 +274,7 @@ public final class GruInputGradients {
                             dRec[b][2 * h + j] = 0f;
                         }
                     }
-                    NativeGruDecoder.gemm(dRec, 0, rRows[l], dNew, bn, 2 * h, h);
+                    NativeRecurrentDecoder.gemm(dRec, 0, rRows[l], dNew, bn, 2 * h, h);
                 }
                 for (int b = 0; b < bn; b++) {
                     float[] d = dh[b];
@@ -284,7 +284,7 @@ public final class GruInputGradients {
                     }
                     java.util.Arrays.fill(dX[b], 0f);
                 }
-                NativeGruDecoder.gemm(da, 0, wRows[l], dX, bn, g3, n);
+                NativeRecurrentDecoder.gemm(da, 0, wRows[l], dX, bn, g3, n);
                 for (int b = 0; b < bn; b++) {
                     if (t < lengths[b]) {
                         System.arraycopy(dX[b], 0, below[b], t * n, n);
@@ -299,10 +299,10 @@ public final class GruInputGradients {
         return values;
     }
 
-    /** {@code out[i][0..m) += Σ_{j<k} in[i][j] · w[first + j][0..m)}: {@link NativeGruDecoder#gemm} on a slice of rows. */
+    /** {@code out[i][0..m) += Σ_{j<k} in[i][j] · w[first + j][0..m)}: {@link NativeRecurrentDecoder#gemm} on a slice of rows. */
     private static void gemmRows(float[][] in, float[][] w, int first, float[][] out, int rows, int k, int m) {
         float[][] slice = new float[k][];
         System.arraycopy(w, first, slice, 0, k);
-        NativeGruDecoder.gemm(in, 0, slice, out, rows, k, m);
+        NativeRecurrentDecoder.gemm(in, 0, slice, out, rows, k, m);
     }
 }

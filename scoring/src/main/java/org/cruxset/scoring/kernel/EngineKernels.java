@@ -32,6 +32,13 @@ public interface EngineKernels {
     /** The candidate and update of a GRU cell without linear_before_reset, {@code g} holding {@code R_h·(r⊙h)}; updates {@code h}. */
     void gruCandidate(float[] x, float[] g, float[] rbh, float[] z, float[] h, float[] c, int hid);
 
+    /**
+     * One step of an LSTM cell for one sample: {@code x} holds the gates' pre-activations i, o, f, c̃ (input and
+     * recurrent products and both biases summed); updates {@code c} and {@code h} in place: {@code c = σ(f) ⊙ c +
+     * σ(i) ⊙ tanh(c̃)}, {@code h = σ(o) ⊙ tanh(c)}. {@code s} (at least 3H) is scratch.
+     */
+    void lstmCell(float[] x, float[] h, float[] c, float[] s, int hid);
+
     /** A short name for reports: {@code vector-512}, {@code scalar}, ... */
     String name();
 }

@@ -145,4 +145,18 @@ public final class ScalarKernels implements EngineKernels {
             h[j] = v + z[j] * (h[j] - v);
         }
     }
+
+    @Override
+    public void lstmCell(float[] x, float[] h, float[] c, float[] s, int hid) {
+        int h3 = 3 * hid;
+        for (int j = 0; j < h3; j++) {
+            s[j] = Activations.sigmoid(x[j]);
+        }
+        for (int j = 0; j < hid; j++) {
+            c[j] = s[2 * hid + j] * c[j] + s[j] * Activations.tanh(x[h3 + j]);
+        }
+        for (int j = 0; j < hid; j++) {
+            h[j] = s[hid + j] * Activations.tanh(c[j]);
+        }
+    }
 }

@@ -227,6 +227,32 @@ final class VectorKernels implements EngineKernels {
         }
     }
 
+    @Override
+    public void lstmCell(float[] x, float[] h, float[] c, float[] s, int hid) {
+        int h3 = 3 * hid;
+        int j = 0;
+        for (; j + L <= h3; j += L) {
+            sigmoid(FloatVector.fromArray(S, x, j)).intoArray(s, j);
+        }
+        for (; j < h3; j++) {
+            s[j] = Activations.sigmoid(x[j]);
+        }
+        for (j = 0; j + L <= hid; j += L) {
+            FloatVector f = FloatVector.fromArray(S, s, 2 * hid + j);
+            FloatVector i = FloatVector.fromArray(S, s, j);
+            f.mul(FloatVector.fromArray(S, c, j)).add(i.mul(tanh(FloatVector.fromArray(S, x, h3 + j)))).intoArray(c, j);
+        }
+        for (; j < hid; j++) {
+            c[j] = s[2 * hid + j] * c[j] + s[j] * Activations.tanh(x[h3 + j]);
+        }
+        for (j = 0; j + L <= hid; j += L) {
+            FloatVector.fromArray(S, s, hid + j).mul(tanh(FloatVector.fromArray(S, c, j))).intoArray(h, j);
+        }
+        for (; j < hid; j++) {
+            h[j] = s[hid + j] * Activations.tanh(c[j]);
+        }
+    }
+
     // ---------------------------------------------------------------- generated tile kernels
 
     private static void k8x3(float[][] in, int off, float[][] w, float[][] out, int i, int k, int c) {

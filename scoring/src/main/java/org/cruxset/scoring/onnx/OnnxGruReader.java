@@ -27,6 +27,8 @@ import java.util.Set;
 import java.util.stream.Collectors;
 import org.cruxset.scoring.gru.GruLayer;
 import org.cruxset.scoring.gru.GruNetwork;
+import org.cruxset.scoring.lstm.LstmLayer;
+import org.cruxset.scoring.lstm.LstmNetwork;
 import org.cruxset.scoring.onnx.OnnxOptions.Layout;
 
 /**
@@ -77,14 +79,26 @@ public final class OnnxGruReader {
      * A model in canonical GRU form: the network, the input layout (BATCH_FIRST or TIME_FIRST), what the output
      * carries, whether the GRUs take their sequence lengths from a graph input, and a one-line description.
      */
-    public record Canonical(GruNetwork network, Layout layout, Output output, boolean hasLengths, String description)
-            implements Analysis {
+    public record Canonical(GruNetwork network, LstmNetwork lstm, Layout layout, Output output, boolean hasLengths,
+                            String description) implements Analysis {
         public Canonical {
-            Objects.requireNonNull(network, "network");
+            if ((network == null) == (lstm == null)) {
+                throw new IllegalArgumentException("a canonical model holds either a GRU or an LSTM network");
+            }
             Objects.requireNonNull(layout, "layout");
             Objects.requireNonNull(output, "output");
             Objects.requireNonNull(description, "description");
         }
+    }
+
+    /** Number of input regions. */
+    public static int inputs(Canonical c) {
+        return c.network() != null ? c.network().inputs() : c.lstm().inputs();
+    }
+
+    /** Number of classes. */
+    public static int classes(Canonical c) {
+        return c.network() != null ? c.network().classes() : c.lstm().classes();
     }
 
     /** A model not in canonical GRU form, with the reason. */
@@ -571,8 +585,12 @@ public final class OnnxGruReader {
     private enum Kind { SEQ, STATE, SCORES, PROBS, LOGPROBS }
 
     /** Stacked GRU layers applied so far, whether they take sequence_lens, and the node label of the last one. */
-    private record Chain(List<GruLayer> layers, boolean seqLens, String lastNode) {
-        static final Chain EMPTY = new Chain(List.of(), false, null);
+    private record Chain(List<GruLayer> layers, List<LstmLayer> lstm, boolean seqLens, String lastNode) {
+        static final Chain EMPTY = new Chain(List.of(), List.of(), false, null);
+
+        boolean isEmpty() {
+            return layers.isEmpty() && lstm.isEmpty();
+        }
     }
 
     /** The affine readout: [classes × hidden] row-major weights and bias, and how it was written. */
@@ -694,7 +712,7 @@ public final class OnnxGruReader {
                 return new Refused("output '" + name + "' does not depend on the input series");
             }
             if (d.kind() == Kind.SEQ || d.kind() == Kind.STATE) {
-                return new Refused("output '" + name + "' is " + (d.kind() == Kind.SEQ ? "a sequence" : "a GRU state")
+                return new Refused("output '" + name + "' is " + (d.kind() == Kind.SEQ ? "a sequence" : "a recurrent state")
                         + ", not class scores: no Gemm or MatMul readout reaches it");
             }
             List<Ax> axes = resolve(d.axes());
@@ -705,21 +723,29 @@ public final class OnnxGruReader {
             boolean hasLengths = inputs.lengths != null;
             if (hasLengths && !c.seqLens()) {
                 return new Refused("graph input '" + inputs.lengths.getName()
-                        + "' does not feed the GRUs' sequence_lens, so padded steps would change the result");
+                        + "' does not feed the " + (c.lstm().isEmpty() ? "GRUs'" : "LSTMs'")
+                        + " sequence_lens, so padded steps would change the result");
             }
             Head h = d.head();
-            GruNetwork net;
+            boolean lstm = !c.lstm().isEmpty();
+            String cell = lstm ? "LSTM" : "GRU";
+            GruNetwork net = null;
+            LstmNetwork lnet = null;
             try {
-                net = new GruNetwork(c.layers(), h.b().length, h.w(), h.b());
+                if (lstm) {
+                    lnet = new LstmNetwork(c.lstm(), h.b().length, h.w(), h.b());
+                } else {
+                    net = new GruNetwork(c.layers(), h.b().length, h.w(), h.b());
+                }
             } catch (IllegalArgumentException e) {
-                return new Refused("the readout does not fit the GRU: " + e.getMessage());
+                return new Refused("the readout does not fit the " + cell + ": " + e.getMessage());
             }
             Layout layout = bound0 == Ax.B ? Layout.BATCH_FIRST : Layout.TIME_FIRST;
             Output kind = d.kind() == Kind.PROBS ? Output.PROBABILITIES
                     : d.kind() == Kind.LOGPROBS ? Output.LOG_PROBABILITIES : Output.LOGITS;
-            int nl = c.layers().size();
-            StringBuilder desc = new StringBuilder("canonical GRU form: ");
-            desc.append(nl == 1 ? "1 GRU layer" : nl + " stacked GRU layers");
+            int nl = lstm ? c.lstm().size() : c.layers().size();
+            StringBuilder desc = new StringBuilder("canonical " + cell + " form: ");
+            desc.append(nl == 1 ? "1 " + cell + " layer" : nl + " stacked " + cell + " layers");
             desc.append(", ").append(d.source()).append(" readout, ").append(h.name());
             if (kind != Output.LOGITS) {
                 desc.append(kind == Output.PROBABILITIES ? ", Softmax output" : ", LogSoftmax output");
@@ -728,7 +754,7 @@ public final class OnnxGruReader {
             if (hasLengths) {
                 desc.append(", lengths input '").append(inputs.lengths.getName()).append('\'');
             }
-            return new Canonical(net, layout, kind, hasLengths, desc.toString());
+            return new Canonical(net, lnet, layout, kind, hasLengths, desc.toString());
         }
 
         // ---------------------------------------------------------------- dispatch
@@ -752,6 +778,9 @@ public final class OnnxGruReader {
             }
             if (op.equals("GRU")) {
                 return gru(n, in);
+            }
+            if (op.equals("LSTM")) {
+                return lstm(n, in);
             }
             if (data != null) {
                 return List.of(onData(n, in, data));
@@ -1056,16 +1085,22 @@ public final class OnnxGruReader {
             }
             if (d.kind() == Kind.SEQ) {
                 return new Bad(label + " acts on the " + role(d) + ": only Transpose, Squeeze, Unsqueeze, Reshape or "
-                        + "Identity may come between the input and a GRU or between GRU layers");
+                        + "Identity may come between the input and a GRU or LSTM or between recurrent layers");
             }
-            return new Bad(label + " acts on the GRU state before the readout: only Squeeze, Unsqueeze, Reshape, "
-                    + "Transpose, Identity, Gather or Slice may come between the GRU and the readout Gemm or MatMul");
+            return new Bad(label + " acts on the " + role(d) + " before the readout: only Squeeze, Unsqueeze, Reshape, "
+                    + "Transpose, Identity, Gather or Slice may come between the " + cell(d.chain())
+                    + " and the readout Gemm or MatMul");
+        }
+
+        /** "LSTM" for a chain of LSTM layers, else "GRU". */
+        private static String cell(Chain c) {
+            return c != null && !c.lstm().isEmpty() ? "LSTM" : "GRU";
         }
 
         private String role(Data d) {
             return switch (d.kind()) {
-                case SEQ -> d.chain().layers().isEmpty() ? "input series" : "GRU output sequence Y";
-                case STATE -> "GRU state";
+                case SEQ -> d.chain().isEmpty() ? "input series" : cell(d.chain()) + " output sequence Y";
+                case STATE -> cell(d.chain()) + " state";
                 default -> "class scores";
             };
         }
@@ -1302,9 +1337,9 @@ public final class OnnxGruReader {
                         return new Bad(label + " " + what + " along time of a non-sequence");
                     }
                     Chain c = d.chain();
-                    if (!c.layers().isEmpty() && c.seqLens()) {
+                    if (!c.isEmpty() && c.seqLens()) {
                         return new Bad(label + " reads Y of " + c.lastNode() + " at the last padded time step, but "
-                                + "that GRU has sequence_lens: samples shorter than the padded length read zeros "
+                                + "that " + cell(c) + " has sequence_lens: samples shorter than the padded length read zeros "
                                 + "there, not their last valid step (read Y_h instead)");
                     }
                     return pick(d, k, keep, Kind.STATE, c, "last step of Y");
@@ -1467,11 +1502,11 @@ public final class OnnxGruReader {
                         + ", which still has a time axis; take the last step or Y_h first");
             }
             if (!resolve(d.axes()).equals(expected)) {
-                return new Bad(label + " (" + op + ") takes the GRU state with axes " + text(d.axes()) + ", expected "
+                return new Bad(label + " (" + op + ") takes the " + role(d) + " with axes " + text(d.axes()) + ", expected "
                         + text(expected));
             }
-            if (d.chain() == null || d.chain().layers().isEmpty()) {
-                return new Bad(label + " reads out the input series without a GRU before it");
+            if (d.chain() == null || d.chain().isEmpty()) {
+                return new Bad(label + " reads out the input series without a GRU or LSTM before it");
             }
             return null;
         }
@@ -1528,11 +1563,11 @@ public final class OnnxGruReader {
             }
             if (axes.isEmpty() || axes.get(axes.size() - 1) != Ax.F || axes.stream().filter(a -> a == Ax.B).count() != 1
                     || axes.stream().anyMatch(a -> a != Ax.B && a != Ax.F && a != Ax.ONE && a != Ax.D)) {
-                return new Bad(label + " (MatMul) takes the GRU state with axes " + text(d.axes())
+                return new Bad(label + " (MatMul) takes the " + role(d) + " with axes " + text(d.axes())
                         + ", expected [batch, features]");
             }
-            if (d.chain() == null || d.chain().layers().isEmpty()) {
-                return new Bad(label + " reads out the input series without a GRU before it");
+            if (d.chain() == null || d.chain().isEmpty()) {
+                return new Bad(label + " reads out the input series without a GRU or LSTM before it");
             }
             if (!(in.length > 1 && in[1] instanceof Const cb && cb.t().isFloat() && cb.t().dims().length == 2)) {
                 return new Bad(label + " readout weights are not a constant float matrix [hidden, classes]");
@@ -1727,6 +1762,9 @@ public final class OnnxGruReader {
                 return List.of(new Bad(label + ": GRU has " + in.length + " inputs, at most 6 are defined"));
             }
             Chain prev = d.chain();
+            if (!prev.lstm().isEmpty()) {
+                return List.of(new Bad(label + ": a GRU stacked on LSTM layers is not a canonical form"));
+            }
             if (!prev.layers().isEmpty() && prev.seqLens() != seqLens) {
                 return List.of(new Bad(label + ": GRU layers disagree on sequence_lens: "
                         + (prev.seqLens() ? prev.lastNode() + " has it, this one does not"
@@ -1740,10 +1778,133 @@ public final class OnnxGruReader {
             }
             List<GruLayer> layers = new ArrayList<>(prev.layers());
             layers.add(layer);
-            Chain chain = new Chain(List.copyOf(layers), seqLens, label);
+            Chain chain = new Chain(List.copyOf(layers), List.of(), seqLens, label);
             Data y = new Data(Kind.SEQ, List.of(Ax.T, Ax.D, Ax.B, Ax.F), hid, chain, null, null, null);
             Data yh = new Data(Kind.STATE, List.of(Ax.D, Ax.B, Ax.F), hid, chain, null, "Y_h", null);
             return List.of(y, yh);
+        }
+
+        // ---------------------------------------------------------------- LSTM
+
+        private List<Val> lstm(NodeProto n, Val[] in) {
+            String direction = stringAttr(n, "direction");
+            if (direction != null && !direction.equals("forward")) {
+                return List.of(new Bad(label + ": LSTM direction '" + direction + "' is not forward"));
+            }
+            AttributeProto acts = attr(n, "activations");
+            if (acts != null) {
+                List<String> names = acts.getStringsList().stream().map(ByteString::toStringUtf8).toList();
+                if (names.size() != 3 || !names.get(0).equalsIgnoreCase("Sigmoid")
+                        || !names.get(1).equalsIgnoreCase("Tanh") || !names.get(2).equalsIgnoreCase("Tanh")) {
+                    return List.of(new Bad(label + ": LSTM activations " + names
+                            + " are not the default [Sigmoid, Tanh, Tanh]"));
+                }
+            }
+            if (attr(n, "clip") != null) {
+                return List.of(new Bad(label + ": LSTM clip " + floatAttr(n, "clip", 0f)
+                        + " is set; only unclipped LSTMs are canonical"));
+            }
+            if (intAttr(n, "input_forget", 0) != 0) {
+                return List.of(new Bad(label + ": LSTM input_forget " + intAttr(n, "input_forget", 0)
+                        + " couples the input and forget gates; only uncoupled LSTMs are canonical"));
+            }
+            long layout = intAttr(n, "layout", 0);
+            if (layout != 0) {
+                return List.of(new Bad(label + ": LSTM layout " + layout + " (batch-major) is not supported"));
+            }
+            Val x = in.length > 0 ? in[0] : null;
+            if (x instanceof Bad) {
+                return List.of(x);
+            }
+            if (!(x instanceof Data d) || d.kind() != Kind.SEQ) {
+                return List.of(new Bad(label + ": LSTM input X is not the input series or an LSTM output sequence"
+                        + (x instanceof Data dd ? " (it is the " + role(dd) + ")" : "")));
+            }
+            for (int i = 1; i < in.length; i++) {
+                if (in[i] instanceof Bad b) {
+                    return List.of(b);
+                }
+                if (in[i] instanceof Data) {
+                    return List.of(new Bad(label + ": LSTM input " + i + " is computed from the input series"));
+                }
+            }
+            Val bind = bindAxes(d);
+            if (bind != null) {
+                return List.of(bind);
+            }
+            if (!(in.length > 2 && in[1] instanceof Const cw && cw.t().isFloat() && in[2] instanceof Const cr
+                    && cr.t().isFloat())) {
+                return List.of(new Bad(label + ": LSTM weights W and R are not constant float initializers"));
+            }
+            Tensor w = cw.t();
+            Tensor r = cr.t();
+            if (w.dims().length != 3 || r.dims().length != 3 || w.dims()[0] != 1 || r.dims()[0] != 1) {
+                return List.of(new Bad(label + ": LSTM W " + w.shape() + " and R " + r.shape()
+                        + " must have shapes [1, 4H, input] and [1, 4H, H]"));
+            }
+            int hid = (int) intAttr(n, "hidden_size", r.dims()[2]);
+            int inSize = (int) w.dims()[2];
+            if (w.dims()[1] != 4L * hid || r.dims()[1] != 4L * hid || r.dims()[2] != hid) {
+                return List.of(new Bad(label + ": LSTM W " + w.shape() + " and R " + r.shape()
+                        + " do not match hidden_size " + hid));
+            }
+            if (d.width() > 0 && d.width() != inSize) {
+                return List.of(new Bad(label + ": LSTM W takes " + inSize + " inputs but X has " + d.width()));
+            }
+            float[] wb = new float[4 * hid];
+            float[] rb = new float[4 * hid];
+            Val bv = in.length > 3 ? in[3] : null;
+            if (bv instanceof Const cb && cb.t().isFloat()) {
+                Tensor b = cb.t();
+                if (b.size() != 8 * hid || b.dims().length != 2 || b.dims()[0] != 1) {
+                    return List.of(new Bad(label + ": LSTM B " + b.shape() + " is not [1, " + 8 * hid + "]"));
+                }
+                System.arraycopy(b.f(), 0, wb, 0, 4 * hid);
+                System.arraycopy(b.f(), 4 * hid, rb, 0, 4 * hid);
+            } else if (bv != null && !(bv instanceof Zero)) {
+                return List.of(new Bad(label + ": LSTM bias B is not a constant float initializer"));
+            }
+            Val sl = in.length > 4 ? in[4] : null;
+            boolean seqLens = false;
+            if (sl instanceof Lengths) {
+                seqLens = true;
+            } else if (sl != null) {
+                return List.of(new Bad(label + ": LSTM sequence_lens is not the graph's lengths input"));
+            }
+            String[] initial = {"initial_h", "initial_c", "P (peepholes)"};
+            for (int i = 5; i < Math.min(in.length, 8); i++) {
+                Val v = in[i];
+                if (v != null && !(v instanceof Zero) && !(v instanceof Const c0 && c0.t().allZero())) {
+                    return List.of(new Bad(label + ": LSTM " + initial[i - 5] + " is not all zeros"
+                            + (v instanceof Opaque o ? " (" + o.why() + ")" : "")));
+                }
+            }
+            if (in.length > 8) {
+                return List.of(new Bad(label + ": LSTM has " + in.length + " inputs, at most 8 are defined"));
+            }
+            Chain prev = d.chain();
+            if (!prev.layers().isEmpty()) {
+                return List.of(new Bad(label + ": an LSTM stacked on GRU layers is not a canonical form"));
+            }
+            if (!prev.lstm().isEmpty() && prev.seqLens() != seqLens) {
+                return List.of(new Bad(label + ": LSTM layers disagree on sequence_lens: "
+                        + (prev.seqLens() ? prev.lastNode() + " has it, this one does not"
+                        : "this one has it, " + prev.lastNode() + " does not")));
+            }
+            LstmLayer layer;
+            try {
+                layer = new LstmLayer(inSize, hid, w.f(), r.f(), wb, rb);
+            } catch (IllegalArgumentException e) {
+                return List.of(new Bad(label + ": " + e.getMessage()));
+            }
+            List<LstmLayer> layers = new ArrayList<>(prev.lstm());
+            layers.add(layer);
+            Chain chain = new Chain(List.of(), List.copyOf(layers), seqLens, label);
+            Data y = new Data(Kind.SEQ, List.of(Ax.T, Ax.D, Ax.B, Ax.F), hid, chain, null, null, null);
+            Data yh = new Data(Kind.STATE, List.of(Ax.D, Ax.B, Ax.F), hid, chain, null, "Y_h", null);
+            Bad yc = new Bad(label + ": the readout reads the LSTM cell state Y_c; canonical LSTMs are read out from "
+                    + "the hidden state (Y_h or the last step of Y)");
+            return List.of(y, yh, yc);
         }
 
         private Val bindAxes(Data d) {

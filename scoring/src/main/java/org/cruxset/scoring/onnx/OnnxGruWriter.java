@@ -21,6 +21,8 @@ import java.util.Set;
 import org.cruxset.scoring.decoder.Preprocessing;
 import org.cruxset.scoring.gru.GruLayer;
 import org.cruxset.scoring.gru.GruNetwork;
+import org.cruxset.scoring.lstm.LstmLayer;
+import org.cruxset.scoring.lstm.LstmNetwork;
 
 /** Writes a {@link GruNetwork} as a standard ONNX model (IR 8, opset 13) that any ONNX runtime can run. */
 public final class OnnxGruWriter {
@@ -34,6 +36,8 @@ public final class OnnxGruWriter {
     public static final String FORMAT_KEY = "cruxset.format";
     /** The format this writer produces. */
     public static final String FORMAT = "gru/1";
+    /** Value of {@link #FORMAT_KEY} in LSTM models this writer produced. */
+    public static final String LSTM_FORMAT = "lstm/1";
 
     static final long IR_VERSION = 8;
     static final long OPSET = 13;
@@ -55,54 +59,89 @@ public final class OnnxGruWriter {
     public static ModelProto model(GruNetwork net, List<String> regionNames, List<String> classLabels, Preprocessing pre,
                                    Map<String, String> extraMetadata) {
         Objects.requireNonNull(net, "net");
+        List<Layer> layers = new java.util.ArrayList<>();
+        for (GruLayer l : net.layers()) {
+            float[] b = new float[6 * l.hidden()];
+            System.arraycopy(l.wb(), 0, b, 0, 3 * l.hidden());
+            System.arraycopy(l.rb(), 0, b, 3 * l.hidden(), 3 * l.hidden());
+            layers.add(new Layer("GRU", 3, l.input(), l.hidden(), l.w(), l.r(), b, l.linearBeforeReset()));
+        }
+        return model(layers, net.classes(), net.readout(), net.bias(), FORMAT, regionNames, classLabels, pre,
+                extraMetadata);
+    }
+
+    /** An LSTM classifier in the same form as {@link #write(GruNetwork, List, List, Preprocessing, Map)}: LSTM nodes. */
+    public static byte[] write(LstmNetwork net, List<String> regionNames, List<String> classLabels, Preprocessing pre,
+                               Map<String, String> extraMetadata) {
+        Objects.requireNonNull(net, "net");
+        List<Layer> layers = new java.util.ArrayList<>();
+        for (LstmLayer l : net.layers()) {
+            float[] b = new float[8 * l.hidden()];
+            System.arraycopy(l.wb(), 0, b, 0, 4 * l.hidden());
+            System.arraycopy(l.rb(), 0, b, 4 * l.hidden(), 4 * l.hidden());
+            layers.add(new Layer("LSTM", 4, l.input(), l.hidden(), l.w(), l.r(), b, false));
+        }
+        return model(layers, net.classes(), net.readout(), net.bias(), LSTM_FORMAT, regionNames, classLabels, pre,
+                extraMetadata).toByteArray();
+    }
+
+    /** One recurrent layer as written: operator, gates, sizes, W, R and B in the operator's layout. */
+    private record Layer(String op, int gates, int input, int hidden, float[] w, float[] r, float[] b,
+                         boolean linearBeforeReset) {
+    }
+
+    private static ModelProto model(List<Layer> layers, int classes, float[] readout, float[] readoutBias, String format,
+                                    List<String> regionNames, List<String> classLabels, Preprocessing pre,
+                                    Map<String, String> extraMetadata) {
         Objects.requireNonNull(pre, "pre");
         Objects.requireNonNull(extraMetadata, "extraMetadata");
-        if (classLabels.size() != net.classes()) {
+        int inputs = layers.get(0).input();
+        if (classLabels.size() != classes) {
             throw new IllegalArgumentException(classLabels.size() + " class labels given for a network of "
-                    + net.classes() + " classes");
+                    + classes + " classes");
         }
-        if (!regionNames.isEmpty() && regionNames.size() != net.inputs()) {
+        if (!regionNames.isEmpty() && regionNames.size() != inputs) {
             throw new IllegalArgumentException(regionNames.size() + " region names given for a network of "
-                    + net.inputs() + " inputs");
+                    + inputs + " inputs");
         }
         requireSingleLines("class label", classLabels);
         requireSingleLines("region name", regionNames);
 
-        int n = net.inputs();
-        int k = net.classes();
-        GraphProto.Builder g = GraphProto.newBuilder().setName("cruxset_gru");
+        int n = inputs;
+        int k = classes;
+        GraphProto.Builder g = GraphProto.newBuilder().setName(format.equals(FORMAT) ? "cruxset_gru" : "cruxset_lstm");
         g.addInput(valueInfo("input", TensorProto.DataType.FLOAT, "batch", "time", n));
         g.addInput(valueInfo("lengths", TensorProto.DataType.INT32, "batch"));
         g.addOutput(valueInfo("scores", TensorProto.DataType.FLOAT, "batch", k));
         g.addOutput(valueInfo("probabilities", TensorProto.DataType.FLOAT, "batch", k));
         g.addInitializer(int64Tensor("axes_0", 0));
-        if (net.layers().size() > 1) {
+        if (layers.size() > 1) {
             g.addInitializer(int64Tensor("axes_1", 1));
         }
 
         g.addNode(node("Transpose", "to_time_major", List.of("input"), List.of("input_tm"))
                 .addAttribute(ints("perm", new long[] {1, 0, 2})));
         String x = "input_tm";
-        List<GruLayer> layers = net.layers();
         for (int i = 0; i < layers.size(); i++) {
-            GruLayer l = layers.get(i);
+            Layer l = layers.get(i);
             int h = l.hidden();
-            String p = "gru" + i;
-            g.addInitializer(floatTensor(p + "_W", l.w(), 1, 3L * h, l.input()));
-            g.addInitializer(floatTensor(p + "_R", l.r(), 1, 3L * h, h));
-            float[] b = new float[6 * h];
-            System.arraycopy(l.wb(), 0, b, 0, 3 * h);
-            System.arraycopy(l.rb(), 0, b, 3 * h, 3 * h);
-            g.addInitializer(floatTensor(p + "_B", b, 1, 6L * h));
+            long gh = (long) l.gates() * h;
+            String p = l.op().toLowerCase(java.util.Locale.ROOT) + i;
+            g.addInitializer(floatTensor(p + "_W", l.w(), 1, gh, l.input()));
+            g.addInitializer(floatTensor(p + "_R", l.r(), 1, gh, h));
+            g.addInitializer(floatTensor(p + "_B", l.b(), 1, 2 * gh));
             boolean last = i == layers.size() - 1;
             String y = last ? "" : p + "_Y";
             String yh = last ? p + "_Y_h" : "";
-            g.addNode(node("GRU", p, List.of(x, p + "_W", p + "_R", p + "_B", "lengths"), List.of(y, yh))
+            NodeProto.Builder rec = node(l.op(), p, List.of(x, p + "_W", p + "_R", p + "_B", "lengths"), List.of(y, yh))
                     .addAttribute(integer("hidden_size", h))
-                    .addAttribute(integer("linear_before_reset", l.linearBeforeReset() ? 1 : 0))
                     .addAttribute(AttributeProto.newBuilder().setName("direction")
                             .setType(AttributeProto.AttributeType.STRING)
-                            .setS(ByteString.copyFromUtf8("forward"))));
+                            .setS(ByteString.copyFromUtf8("forward")));
+            if (l.op().equals("GRU")) {
+                rec.addAttribute(integer("linear_before_reset", l.linearBeforeReset() ? 1 : 0));
+            }
+            g.addNode(rec);
             if (last) {
                 g.addNode(node("Squeeze", p + "_drop_direction", List.of(yh, "axes_0"), List.of("last_state")));
             } else {
@@ -110,8 +149,8 @@ public final class OnnxGruWriter {
                 x = p + "_out";
             }
         }
-        g.addInitializer(floatTensor("readout_weight", net.readout(), k, net.lastHidden()));
-        g.addInitializer(floatTensor("readout_bias", net.bias(), k));
+        g.addInitializer(floatTensor("readout_weight", readout, k, layers.get(layers.size() - 1).hidden()));
+        g.addInitializer(floatTensor("readout_bias", readoutBias, k));
         g.addNode(node("Gemm", "readout", List.of("last_state", "readout_weight", "readout_bias"), List.of("scores"))
                 .addAttribute(integer("transB", 1)));
         g.addNode(node("Softmax", "class_probabilities", List.of("scores"), List.of("probabilities"))
@@ -128,7 +167,7 @@ public final class OnnxGruWriter {
             meta.put(REGIONS_KEY, String.join("\n", regionNames));
         }
         meta.put(PREPROCESSING_KEY, pre.label());
-        meta.put(FORMAT_KEY, FORMAT);
+        meta.put(FORMAT_KEY, format);
         for (Map.Entry<String, String> e : extraMetadata.entrySet()) {
             if (RESERVED.contains(e.getKey())) {
                 throw new IllegalArgumentException("extra metadata may not set the reserved key '" + e.getKey() + "'");

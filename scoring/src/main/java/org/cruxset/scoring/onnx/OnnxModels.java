@@ -16,7 +16,7 @@ import org.cruxset.scoring.decoder.Decoder;
 import org.cruxset.scoring.decoder.ModelCard;
 import org.cruxset.scoring.decoder.Preprocessing;
 import org.cruxset.scoring.gru.GruNetwork;
-import org.cruxset.scoring.gru.NativeGruDecoder;
+import org.cruxset.scoring.gru.NativeRecurrentDecoder;
 import org.cruxset.scoring.onnx.OnnxGruReader.Analysis;
 import org.cruxset.scoring.onnx.OnnxGruReader.Canonical;
 import org.cruxset.scoring.onnx.OnnxGruReader.Refused;
@@ -24,9 +24,9 @@ import org.cruxset.scoring.onnx.OnnxGruReader.Signature;
 import org.cruxset.scoring.onnx.OnnxOptions.Engine;
 import org.cruxset.scoring.onnx.OnnxOptions.Layout;
 
-/** Opens ONNX decoder models: Cruxset's own engine for canonical GRU models, ONNX Runtime for any other. */
+/** Opens ONNX decoder models: Cruxset's own engine for canonical GRU and LSTM models, ONNX Runtime for any other. */
 public final class OnnxModels {
-    /** Engine name on the model card of models run by {@link NativeGruDecoder}. */
+    /** Engine name on the model card of models run by {@link NativeRecurrentDecoder}. */
     public static final String NATIVE = "native";
     /** Engine name on the model card of models run by {@link OnnxRuntimeDecoder}. */
     public static final String ONNXRUNTIME = "onnxruntime";
@@ -66,7 +66,7 @@ public final class OnnxModels {
         Map<String, String> meta = sig.metadata();
 
         List<String> labels = classLabels(model, options.classesFile(), meta);
-        int width = canonical != null ? canonical.network().classes() : sig.classes();
+        int width = canonical != null ? OnnxGruReader.classes(canonical) : sig.classes();
         if (width > 0 && width != labels.size()) {
             throw new IllegalArgumentException("model " + model + " gives " + width + " class scores but "
                     + labels.size() + " class labels were given" + (options.classesFile() != null
@@ -87,7 +87,7 @@ public final class OnnxModels {
         }
         List<String> regionNames = meta.containsKey(OnnxGruWriter.REGIONS_KEY)
                 ? lines(meta.get(OnnxGruWriter.REGIONS_KEY)) : List.of();
-        int regions = canonical != null ? canonical.network().inputs()
+        int regions = canonical != null ? OnnxGruReader.inputs(canonical)
                 : sig.regions() > 0 ? sig.regions() : regionNames.size();
         if (regions < 1) {
             throw new IllegalArgumentException("model " + model + " does not fix the region count of input '"
@@ -103,7 +103,7 @@ public final class OnnxModels {
             case AUTO -> canonical != null;
             case NATIVE -> {
                 if (canonical == null) {
-                    throw new IllegalArgumentException("model " + model + " is not in canonical GRU form, so the native "
+                    throw new IllegalArgumentException("model " + model + " is not in canonical GRU or LSTM form, so the native "
                             + "engine cannot run it: " + refusal + " (use engine auto or onnxruntime)");
                 }
                 yield true;
@@ -112,16 +112,16 @@ public final class OnnxModels {
         };
         Layout layout = layout(model, sig, canonical, options.layout());
         if (runNative) {
-            GruNetwork net = canonical.network();
             ModelCard card = card(model, regions, regionNames, labels, pre, NATIVE, canonical.description(), hash, meta);
-            return new NativeGruDecoder(net, card);
+            return canonical.network() != null ? new NativeRecurrentDecoder(canonical.network(), card)
+                    : new NativeRecurrentDecoder(canonical.lstm(), card);
         }
         String reason;
         if (options.engine() == Engine.ONNXRUNTIME) {
             reason = "engine onnxruntime requested" + (canonical != null ? " (" + canonical.description() + ")"
-                    : "; not in canonical GRU form: " + refusal);
+                    : "; not in canonical GRU or LSTM form: " + refusal);
         } else {
-            reason = "not in canonical GRU form: " + refusal;
+            reason = "not in canonical GRU or LSTM form: " + refusal;
         }
         ModelCard card = card(model, regions, regionNames, labels, pre, ONNXRUNTIME, reason, hash, meta);
         OnnxGruReader.Output kind = canonical != null ? canonical.output() : sig.outputKind();

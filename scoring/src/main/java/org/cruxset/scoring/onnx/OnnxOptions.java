@@ -16,9 +16,9 @@ public record OnnxOptions(Engine engine, Layout layout, Path classesFile, Prepro
 
     /** Which engine runs a model. */
     public enum Engine {
-        /** Cruxset's own engine for models in canonical GRU form, ONNX Runtime for the others. */
+        /** Cruxset's own engine for models in canonical GRU or LSTM form, ONNX Runtime for the others. */
         AUTO,
-        /** Cruxset's own engine; models not in canonical GRU form are refused. */
+        /** Cruxset's own engine; models not in canonical GRU or LSTM form are refused. */
         NATIVE,
         /** ONNX Runtime for every model. */
         ONNXRUNTIME

@@ -11,7 +11,7 @@ import org.cruxset.scoring.Provenance;
 import org.cruxset.scoring.cohort.Atlas;
 import org.cruxset.scoring.decoder.LesionFill;
 import org.cruxset.scoring.gru.GruNetwork;
-import org.cruxset.scoring.gru.NativeGruDecoder;
+import org.cruxset.scoring.gru.NativeRecurrentDecoder;
 import org.cruxset.scoring.lesion.LesionMode;
 import org.cruxset.scoring.lesion.RegionSet;
 import org.cruxset.scoring.store.ResultsStore;
@@ -22,14 +22,14 @@ import org.junit.jupiter.api.io.TempDir;
 class LesionScorerTest {
     static final List<String> CLASSES = List.of("a", "b", "c");
 
-    record Fixture(NativeGruDecoder decoder, ModelInputs inputs, Atlas atlas) {
+    record Fixture(NativeRecurrentDecoder decoder, ModelInputs inputs, Atlas atlas) {
     }
 
     static Fixture fixture() {
         Random rng = new Random(4);
         Atlas atlas = RandomModels.atlas(12, 4);
         GruNetwork net = RandomModels.randomNetwork(rng, 12, new int[] {8}, new boolean[] {false}, 3, 0.7);
-        NativeGruDecoder dec = new NativeGruDecoder(net, RandomModels.card(net, atlas, CLASSES, "model-1"));
+        NativeRecurrentDecoder dec = new NativeRecurrentDecoder(net, RandomModels.card(net, atlas, CLASSES, "model-1"));
         ModelInputs in = ModelInputs.prepare(dec.card(), atlas, RandomModels.samples(rng, 30, 12, 3, 15, CLASSES));
         return new Fixture(dec, in, atlas);
     }

@@ -17,7 +17,7 @@ import org.cruxset.scoring.cohort.Cohort;
 import org.cruxset.scoring.cohort.Sample;
 import org.cruxset.scoring.cohort.Split;
 import org.cruxset.scoring.gru.GruNetwork;
-import org.cruxset.scoring.gru.NativeGruDecoder;
+import org.cruxset.scoring.gru.NativeRecurrentDecoder;
 import org.cruxset.scoring.lesion.LesionMode;
 import org.cruxset.scoring.lesion.RegionSet;
 import org.cruxset.scoring.store.PartSplit;
@@ -103,7 +103,7 @@ class PartsTest {
         Random rng = new Random(4);
         Atlas atlas = RandomModels.atlas(6, 3);
         GruNetwork net = RandomModels.randomNetwork(rng, 6, new int[] {5}, new boolean[] {false}, 3, 0.7);
-        NativeGruDecoder dec = new NativeGruDecoder(net, RandomModels.card(net, atlas, CLASSES, "model-p"));
+        NativeRecurrentDecoder dec = new NativeRecurrentDecoder(net, RandomModels.card(net, atlas, CLASSES, "model-p"));
         Cohort cohort = new Cohort(atlas, samples(8, 3, 6));
         ScoringSession.Settings settings = new ScoringSession.Settings(LesionMode.ZERO, 0, null,
                 CollapseCriterion.defaults(), 3, 2, out, "test", "parts", 1, 9, 0.5);

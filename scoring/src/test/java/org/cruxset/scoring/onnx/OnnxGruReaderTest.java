@@ -159,7 +159,7 @@ class OnnxGruReaderTest {
         InputBatch batch = randomBatch(rng, N, LENGTHS);
         try (Decoder d = OnnxModels.load(file, OnnxOptions.defaults())) {
             assertEquals(OnnxModels.ONNXRUNTIME, d.card().engine());
-            assertEquals("not in canonical GRU form: " + r, d.card().engineReason());
+            assertEquals("not in canonical GRU or LSTM form: " + r, d.card().engineReason());
             float[][] p = d.bind(batch).probabilities(List.of(InputMask.none(N)), 1)[0];
             double[] fromBias = softmax(net.bias());
             double[] full = reference(net, batch.series(1), batch.length(1));

@@ -24,7 +24,7 @@ import org.cruxset.scoring.decoder.ModelCard;
 import org.cruxset.scoring.decoder.Preprocessing;
 import org.cruxset.scoring.gru.GruLayer;
 import org.cruxset.scoring.gru.GruNetwork;
-import org.cruxset.scoring.gru.NativeGruDecoder;
+import org.cruxset.scoring.gru.NativeRecurrentDecoder;
 import org.cruxset.scoring.lesion.RegionSet;
 import org.cruxset.scoring.onnx.OnnxOptions.Engine;
 import org.cruxset.scoring.onnx.OnnxOptions.Layout;
@@ -129,7 +129,7 @@ class OnnxGruRoundTripTest {
         Path file = save(dir, "m.onnx", bytes);
         try (Decoder d = OnnxModels.load(file, OnnxOptions.defaults())) {
             ModelCard card = d.card();
-            assertInstanceOf(NativeGruDecoder.class, d);
+            assertInstanceOf(NativeRecurrentDecoder.class, d);
             assertEquals("native", card.engine());
             assertEquals(c.description(), card.engineReason());
             assertEquals(CLASSES, card.classLabels());

@@ -120,12 +120,12 @@ class OnnxModelsTest {
         Path file = save(dir, "bidi.onnx", bidirectional(written()).toByteArray());
         IllegalArgumentException e = assertThrows(IllegalArgumentException.class,
                 () -> OnnxModels.load(file, OnnxOptions.defaults().withEngine(Engine.NATIVE)));
-        assertEquals("model " + file + " is not in canonical GRU form, so the native engine cannot run it: node 1 "
+        assertEquals("model " + file + " is not in canonical GRU or LSTM form, so the native engine cannot run it: node 1 "
                 + "(GRU 'gru0'): GRU direction 'bidirectional' is not forward (use engine auto or onnxruntime)",
                 e.getMessage());
         try (Decoder d = OnnxModels.load(file, OnnxOptions.defaults())) {
             assertEquals(OnnxModels.ONNXRUNTIME, d.card().engine());
-            assertEquals("not in canonical GRU form: node 1 (GRU 'gru0'): GRU direction 'bidirectional' is not forward",
+            assertEquals("not in canonical GRU or LSTM form: node 1 (GRU 'gru0'): GRU direction 'bidirectional' is not forward",
                     d.card().engineReason());
             var batch = OnnxTestSupport.randomBatch(new Random(1), N, new int[] {3, 8, 8, 1});
             float[][] p = d.bind(batch).probabilities(List.of(org.cruxset.scoring.decoder.InputMask.none(N)), 1)[0];

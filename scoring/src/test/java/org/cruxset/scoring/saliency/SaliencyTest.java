@@ -17,7 +17,7 @@ import org.cruxset.scoring.decoder.InputBatch;
 import org.cruxset.scoring.decoder.LesionFill;
 import org.cruxset.scoring.decoder.Preprocessing;
 import org.cruxset.scoring.gru.GruNetwork;
-import org.cruxset.scoring.gru.NativeGruDecoder;
+import org.cruxset.scoring.gru.NativeRecurrentDecoder;
 import org.cruxset.scoring.onnx.OnnxGruWriter;
 import org.cruxset.scoring.onnx.OnnxModels;
 import org.cruxset.scoring.onnx.OnnxOptions;
@@ -61,7 +61,7 @@ class SaliencyTest {
             GruGradients g = new GruGradients(GruParameters.of(net), len);
             g.refresh();
             double[] p = g.forward(x, len);
-            NativeGruDecoder engine = new NativeGruDecoder(net, org.cruxset.scoring.testing.RandomModels.card(net,
+            NativeRecurrentDecoder engine = new NativeRecurrentDecoder(net, org.cruxset.scoring.testing.RandomModels.card(net,
                     org.cruxset.scoring.testing.RandomModels.atlas(N, N), List.of("c0", "c1", "c2", "c3"), "h"));
             float[] pe = engine.probabilities(x, len);
             for (int k = 0; k < K; k++) {

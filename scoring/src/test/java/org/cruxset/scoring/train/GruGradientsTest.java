@@ -9,7 +9,7 @@ import org.cruxset.scoring.decoder.InputBatch;
 import org.cruxset.scoring.decoder.InputMask;
 import org.cruxset.scoring.decoder.ModelCard;
 import org.cruxset.scoring.decoder.Preprocessing;
-import org.cruxset.scoring.gru.NativeGruDecoder;
+import org.cruxset.scoring.gru.NativeRecurrentDecoder;
 import org.junit.jupiter.api.Test;
 
 class GruGradientsTest {
@@ -73,7 +73,7 @@ class GruGradientsTest {
         var net = p.toNetwork();
         var card = new ModelCard(5, java.util.List.of(), java.util.List.of("a", "b", "c"), Preprocessing.NONE,
                 "native", "test", "0", java.util.Map.of());
-        NativeGruDecoder dec = new NativeGruDecoder(net, card);
+        NativeRecurrentDecoder dec = new NativeRecurrentDecoder(net, card);
         float[][] series = new float[3][];
         int[] lengths = {1, 7, 13};
         for (int s = 0; s < 3; s++) {

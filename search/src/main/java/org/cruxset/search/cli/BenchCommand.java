@@ -17,7 +17,7 @@ import org.cruxset.scoring.decoder.InputMask;
 import org.cruxset.scoring.decoder.Preprocessing;
 import org.cruxset.scoring.gru.GruLayer;
 import org.cruxset.scoring.gru.GruNetwork;
-import org.cruxset.scoring.gru.NativeGruDecoder;
+import org.cruxset.scoring.gru.NativeRecurrentDecoder;
 import org.cruxset.scoring.kernel.Kernels;
 import org.cruxset.scoring.kernel.MachineReference;
 import org.cruxset.scoring.lesion.RegionSet;
@@ -226,7 +226,7 @@ public final class BenchCommand implements Callable<Integer> {
         try (Decoder nat = OnnxModels.load(file, options.withEngine(Engine.NATIVE));
              Decoder ort = OnnxModels.load(file, options.withEngine(Engine.ONNXRUNTIME));
              Decoder ortIntra = OnnxModels.load(file, options.withEngine(Engine.ONNXRUNTIME), nThreads)) {
-            if (nat instanceof NativeGruDecoder g) {
+            if (nat instanceof NativeRecurrentDecoder g) {
                 double mb = g.projectionCacheBytes(batch) / (double) (1 << 20);
                 out.printf(Locale.ROOT, "Projection cache: %.1f MB (4 bytes x 3 x %d units x %d sample-steps), limit %d MB: %s%n",
                         mb, hidden, (long) samples * steps, g.projectionCacheLimitMB(),

@@ -18,7 +18,7 @@ public final class ModelOptions {
     Path classes;
 
     @Option(names = "--engine", paramLabel = "ENGINE", defaultValue = "auto",
-            description = "auto (Cruxset's own engine for canonical GRU models, else ONNX Runtime), native or onnxruntime. Default: ${DEFAULT-VALUE}.")
+            description = "auto (Cruxset's own engine for canonical GRU and LSTM models, else ONNX Runtime), native or onnxruntime. Default: ${DEFAULT-VALUE}.")
     String engine;
 
     @Option(names = "--layout", paramLabel = "LAYOUT", defaultValue = "auto",

@@ -15,7 +15,7 @@ import org.cruxset.scoring.decoder.Decoder;
 import org.cruxset.scoring.decoder.InputMask;
 import org.cruxset.scoring.eval.ModelInputs;
 import org.cruxset.scoring.eval.ScoringSession;
-import org.cruxset.scoring.gru.NativeGruDecoder;
+import org.cruxset.scoring.gru.NativeRecurrentDecoder;
 import org.cruxset.scoring.lesion.RegionSet;
 import org.cruxset.scoring.saliency.Attributions;
 import org.cruxset.scoring.saliency.Saliency;
@@ -109,8 +109,13 @@ public final class SaliencyCommand implements Callable<Integer> {
             ModelInputs in = part.inputs();
             Reports.header(pw, session);
             String note = "";
-            if (!(decoder instanceof NativeGruDecoder) && m != Saliency.Method.DIFFERENCES) {
-                note = " (the model is run by ONNX Runtime, which gives no gradients: " + m.label()
+            java.util.Optional<org.cruxset.scoring.gru.GruNetwork> gru = decoder instanceof NativeRecurrentDecoder nat
+                    ? nat.gruNetwork() : java.util.Optional.empty();
+            if (gru.isEmpty() && m != Saliency.Method.DIFFERENCES) {
+                note = decoder instanceof NativeRecurrentDecoder
+                        ? " (input gradients are implemented for GRU decoders only, this one is an LSTM: " + m.label()
+                        + " was asked for, finite differences by region are computed instead)"
+                        : " (the model is run by ONNX Runtime, which gives no gradients: " + m.label()
                         + " was asked for, finite differences by region are computed instead)";
                 m = Saliency.Method.DIFFERENCES;
             }
@@ -118,8 +123,8 @@ public final class SaliencyCommand implements Callable<Integer> {
                     model.threads(), false);
             int[] targets = in.labels();
             long t0 = System.nanoTime();
-            Attributions a = decoder instanceof NativeGruDecoder nat && m != Saliency.Method.DIFFERENCES
-                    ? Saliency.gradients(nat.network(), in.batch(), targets, part.scorer().fill(), settings)
+            Attributions a = gru.isPresent() && m != Saliency.Method.DIFFERENCES
+                    ? Saliency.gradients(gru.get(), in.batch(), targets, part.scorer().fill(), settings)
                     : Saliency.differences(decoder.bind(in.batch()), in.batch(), targets, settings);
             double seconds = (System.nanoTime() - t0) / 1e9;
             double perSet = secondsPerScoredSet(decoder, in);

@@ -20,7 +20,7 @@ import org.cruxset.scoring.decoder.InputMask;
 import org.cruxset.scoring.decoder.LesionFill;
 import org.cruxset.scoring.decoder.ModelCard;
 import org.cruxset.scoring.decoder.Preprocessing;
-import org.cruxset.scoring.gru.NativeGruDecoder.Mode;
+import org.cruxset.scoring.gru.NativeRecurrentDecoder.Mode;
 import org.cruxset.scoring.lesion.RegionSet;
 import org.cruxset.scoring.onnx.OnnxGruWriter;
 import org.cruxset.scoring.onnx.OnnxModels;
@@ -29,7 +29,7 @@ import org.cruxset.scoring.onnx.OnnxOptions.Engine;
 import org.junit.jupiter.api.Test;
 import org.junit.jupiter.api.io.TempDir;
 
-class NativeGruDecoderTest {
+class NativeRecurrentDecoderTest {
     static final int N = 9;
     static final int K = 4;
 
@@ -138,7 +138,7 @@ class NativeGruDecoderTest {
         double worst = 0;
         for (Config c : configs()) {
             GruNetwork net = randomNetwork(rng, N, c.hidden(), c.lbr(), K, 0.8);
-            NativeGruDecoder dec = new NativeGruDecoder(net, card(net));
+            NativeRecurrentDecoder dec = new NativeRecurrentDecoder(net, card(net));
             // 70 samples: two blocks, each with a tail of fewer than four rows.
             InputBatch batch = randomBatch(rng, 70);
             for (LesionFill fill : List.of(LesionFill.ZERO, WAVE, SAME_ON_EVEN)) {
@@ -161,7 +161,7 @@ class NativeGruDecoderTest {
         Random rng = new Random(43);
         for (Config c : configs()) {
             GruNetwork net = randomNetwork(rng, N, c.hidden(), c.lbr(), K, 0.8);
-            NativeGruDecoder dec = new NativeGruDecoder(net, card(net));
+            NativeRecurrentDecoder dec = new NativeRecurrentDecoder(net, card(net));
             InputBatch batch = randomBatch(rng, 11);
             List<InputMask> masks = masks(WAVE);
             float[][][] p = dec.bind(batch).probabilities(masks, 1);
@@ -181,8 +181,8 @@ class NativeGruDecoderTest {
         GruNetwork net = randomNetwork(rng, N, new int[] {14, 9}, new boolean[] {true, false}, K, 0.8);
         InputBatch batch = randomBatch(rng, 150);
         List<InputMask> masks = masks(WAVE);
-        NativeGruDecoder cached = new NativeGruDecoder(net, card(net));
-        NativeGruDecoder uncached = new NativeGruDecoder(net, card(net), 0);
+        NativeRecurrentDecoder cached = new NativeRecurrentDecoder(net, card(net));
+        NativeRecurrentDecoder uncached = new NativeRecurrentDecoder(net, card(net), 0);
         assertTrue(cached.cachesProjections(batch));
         assertFalse(uncached.cachesProjections(batch));
         long steps = 0;
@@ -203,21 +203,21 @@ class NativeGruDecoderTest {
     @Test
     void cacheLimitComesFromTheSystemProperty() {
         GruNetwork net = randomNetwork(new Random(67), N, new int[] {4}, new boolean[] {true}, K, 0.8);
-        String saved = System.getProperty(NativeGruDecoder.CACHE_PROPERTY);
+        String saved = System.getProperty(NativeRecurrentDecoder.CACHE_PROPERTY);
         try {
-            System.clearProperty(NativeGruDecoder.CACHE_PROPERTY);
-            assertEquals(NativeGruDecoder.DEFAULT_CACHE_MB, new NativeGruDecoder(net, card(net)).projectionCacheLimitMB());
-            System.setProperty(NativeGruDecoder.CACHE_PROPERTY, " 7 ");
-            assertEquals(7, new NativeGruDecoder(net, card(net)).projectionCacheLimitMB());
-            System.setProperty(NativeGruDecoder.CACHE_PROPERTY, "lots");
-            IllegalArgumentException e = assertThrows(IllegalArgumentException.class, () -> new NativeGruDecoder(net, card(net)));
-            assertTrue(e.getMessage().contains(NativeGruDecoder.CACHE_PROPERTY), e.getMessage());
-            assertThrows(IllegalArgumentException.class, () -> new NativeGruDecoder(net, card(net), -1));
+            System.clearProperty(NativeRecurrentDecoder.CACHE_PROPERTY);
+            assertEquals(NativeRecurrentDecoder.DEFAULT_CACHE_MB, new NativeRecurrentDecoder(net, card(net)).projectionCacheLimitMB());
+            System.setProperty(NativeRecurrentDecoder.CACHE_PROPERTY, " 7 ");
+            assertEquals(7, new NativeRecurrentDecoder(net, card(net)).projectionCacheLimitMB());
+            System.setProperty(NativeRecurrentDecoder.CACHE_PROPERTY, "lots");
+            IllegalArgumentException e = assertThrows(IllegalArgumentException.class, () -> new NativeRecurrentDecoder(net, card(net)));
+            assertTrue(e.getMessage().contains(NativeRecurrentDecoder.CACHE_PROPERTY), e.getMessage());
+            assertThrows(IllegalArgumentException.class, () -> new NativeRecurrentDecoder(net, card(net), -1));
         } finally {
             if (saved == null) {
-                System.clearProperty(NativeGruDecoder.CACHE_PROPERTY);
+                System.clearProperty(NativeRecurrentDecoder.CACHE_PROPERTY);
             } else {
-                System.setProperty(NativeGruDecoder.CACHE_PROPERTY, saved);
+                System.setProperty(NativeRecurrentDecoder.CACHE_PROPERTY, saved);
             }
         }
     }
@@ -226,7 +226,7 @@ class NativeGruDecoderTest {
     void concurrentCallsOnOneBoundBatchAgree() throws Exception {
         Random rng = new Random(53);
         GruNetwork net = randomNetwork(rng, N, new int[] {12}, new boolean[] {true}, K, 0.8);
-        NativeGruDecoder dec = new NativeGruDecoder(net, card(net));
+        NativeRecurrentDecoder dec = new NativeRecurrentDecoder(net, card(net));
         InputBatch batch = randomBatch(rng, 40);
         Decoder.Bound bound = dec.bind(batch);
         List<InputMask> masks = masks(LesionFill.ZERO);
@@ -249,7 +249,7 @@ class NativeGruDecoderTest {
     void refusesMasksBeyondTheModelsRegions() {
         Random rng = new Random(59);
         GruNetwork net = randomNetwork(rng, N, new int[] {4}, new boolean[] {true}, K, 0.8);
-        NativeGruDecoder dec = new NativeGruDecoder(net, card(net));
+        NativeRecurrentDecoder dec = new NativeRecurrentDecoder(net, card(net));
         InputBatch batch = randomBatch(rng, 3);
         IllegalArgumentException e = assertThrows(IllegalArgumentException.class,
                 () -> dec.bind(batch).probabilities(List.of(InputMask.zero(RegionSet.of(N + 2, N + 1))), 1));
@@ -285,7 +285,7 @@ class NativeGruDecoderTest {
             InputBatch batch = randomBatch(rng, 23);
             try (Decoder nat = OnnxModels.load(file, OnnxOptions.defaults().withEngine(Engine.NATIVE));
                  Decoder ort = OnnxModels.load(file, OnnxOptions.defaults().withEngine(Engine.ONNXRUNTIME))) {
-                assertTrue(nat instanceof NativeGruDecoder);
+                assertTrue(nat instanceof NativeRecurrentDecoder);
                 for (LesionFill fill : List.of(LesionFill.ZERO, WAVE)) {
                     List<InputMask> masks = masks(fill);
                     float[][][] pn = nat.bind(batch).probabilities(masks, 2);

@@ -13,16 +13,20 @@ import org.cruxset.scoring.internal.Parallel;
 import org.cruxset.scoring.kernel.Activations;
 import org.cruxset.scoring.kernel.Kernels;
 import org.cruxset.scoring.kernel.PackedMatrix;
+import org.cruxset.scoring.lstm.LstmLayer;
+import org.cruxset.scoring.lstm.LstmNetwork;
 import org.cruxset.scoring.kernel.EngineKernels;
 
 /**
- * Cruxset's own engine for {@link GruNetwork}s: single precision, the ONNX GRU operator's semantics, built to score
+ * Cruxset's own engine for {@link GruNetwork}s and {@link LstmNetwork}s: single precision, the ONNX GRU and LSTM
+ * operators' semantics, built to score
  * many lesions of one batch.
  *
  * <p>A bound batch caches the intact input projection of layer 0, {@code P = W·x_t + Wb (+ Rb for the z and r
  * gates)}, for every sample and step, on first use. A lesion of regions L with replacement values v then only adds
  * {@code Σ_{r∈L} W[:, r]·(v_r(t) − x_r(t))} to P, at a cost that grows with |L| rather than with the region count,
- * and runs the recurrence. The cache takes {@code 4 · 3·H₀ · Σ_s T_s} bytes, H₀ being the first layer's hidden
+ * and runs the recurrence. The cache takes {@code 4 · G·H₀ · Σ_s T_s} bytes, G being 3 gates (GRU) or 4 (LSTM), H₀
+ * the first layer's hidden
  * size and T_s the length of sample s (at most {@code 12·H₀·S·T_max} for S samples; 203 MB for 660 samples of 200
  * steps at H₀ = 128). When that exceeds the limit, system property {@value #CACHE_PROPERTY} in MB of 2^20 bytes
  * (default {@value #DEFAULT_CACHE_MB}) or the constructor argument, every set is projected in full instead.
@@ -31,7 +35,7 @@ import org.cruxset.scoring.kernel.EngineKernels;
  * recurrence is a matrix product over them, run on {@link Kernels#get()} (the Vector API when present). Sigmoid and
  * tanh are {@link Activations}. Thread-safe.
  */
-public final class NativeGruDecoder implements Decoder {
+public final class NativeRecurrentDecoder implements Decoder {
     /** System property holding the projection cache limit in MB (2^20 bytes). */
     public static final String CACHE_PROPERTY = "cruxset.projectionCacheMB";
     /** The projection cache limit in MB when the system property is not set. */
@@ -51,7 +55,10 @@ public final class NativeGruDecoder implements Decoder {
         PLAIN
     }
 
+    /** The GRU network, or null for an LSTM. */
     private final GruNetwork network;
+    private final int inputs;
+    private final int classes;
     private final ModelCard card;
     private final Layer[] layers;
     private final float[] readout;
@@ -59,30 +66,48 @@ public final class NativeGruDecoder implements Decoder {
     private final long cacheLimitMB;
 
     /** An engine for {@code network}, described by {@code card} (whose region and class counts must match). */
-    public NativeGruDecoder(GruNetwork network, ModelCard card) {
+    public NativeRecurrentDecoder(GruNetwork network, ModelCard card) {
         this(network, card, configuredCacheMB());
     }
 
     /** An engine for {@code network} whose bound batches cache input projections of at most {@code projectionCacheMB} MB. */
-    public NativeGruDecoder(GruNetwork network, ModelCard card, long projectionCacheMB) {
-        this.network = Objects.requireNonNull(network, "network");
+    public NativeRecurrentDecoder(GruNetwork network, ModelCard card, long projectionCacheMB) {
+        this(Objects.requireNonNull(network, "network"), network.inputs(), network.classes(),
+                network.layers().stream().map(Layer::new).toArray(Layer[]::new), network.readout(), network.bias(), card,
+                projectionCacheMB);
+    }
+
+    /** An engine for an LSTM {@code network}, described by {@code card} (whose region and class counts must match). */
+    public NativeRecurrentDecoder(LstmNetwork network, ModelCard card) {
+        this(network, card, configuredCacheMB());
+    }
+
+    /** An engine for an LSTM whose bound batches cache input projections of at most {@code projectionCacheMB} MB. */
+    public NativeRecurrentDecoder(LstmNetwork network, ModelCard card, long projectionCacheMB) {
+        this(null, Objects.requireNonNull(network, "network").inputs(), network.classes(),
+                network.layers().stream().map(Layer::new).toArray(Layer[]::new), network.readout(), network.bias(), card,
+                projectionCacheMB);
+    }
+
+    private NativeRecurrentDecoder(GruNetwork gru, int inputs, int classes, Layer[] layers, float[] readout,
+                                   float[] readoutBias, ModelCard card, long projectionCacheMB) {
+        this.network = gru;
+        this.inputs = inputs;
+        this.classes = classes;
         this.card = Objects.requireNonNull(card, "card");
-        if (card.regions() != network.inputs()) {
-            throw new IllegalArgumentException("model card has " + card.regions() + " regions, network takes " + network.inputs());
+        if (card.regions() != inputs) {
+            throw new IllegalArgumentException("model card has " + card.regions() + " regions, network takes " + inputs);
         }
-        if (card.classes() != network.classes()) {
-            throw new IllegalArgumentException("model card has " + card.classes() + " classes, network gives " + network.classes());
+        if (card.classes() != classes) {
+            throw new IllegalArgumentException("model card has " + card.classes() + " classes, network gives " + classes);
         }
         if (projectionCacheMB < 0) {
             throw new IllegalArgumentException("projection cache limit must be at least 0 MB, found " + projectionCacheMB);
         }
         this.cacheLimitMB = projectionCacheMB;
-        layers = new Layer[network.layers().size()];
-        for (int i = 0; i < layers.length; i++) {
-            layers[i] = new Layer(network.layers().get(i));
-        }
-        readout = network.readout();
-        readoutBias = network.bias();
+        this.layers = layers;
+        this.readout = readout;
+        this.readoutBias = readoutBias;
     }
 
     private static long configuredCacheMB() {
@@ -98,8 +123,14 @@ public final class NativeGruDecoder implements Decoder {
         }
     }
 
-    public GruNetwork network() {
-        return network;
+    /** The GRU network this engine runs, or empty when it runs an LSTM. */
+    public java.util.Optional<GruNetwork> gruNetwork() {
+        return java.util.Optional.ofNullable(network);
+    }
+
+    /** "GRU" or "LSTM". */
+    public String cell() {
+        return layers[0].cell == Cell.LSTM ? "LSTM" : "GRU";
     }
 
     @Override
@@ -112,13 +143,13 @@ public final class NativeGruDecoder implements Decoder {
         return cacheLimitMB;
     }
 
-    /** Bytes the cached input projections of {@code batch} take: 4 · 3·H₀ · Σ_s T_s. */
+    /** Bytes the cached input projections of {@code batch} take: 4 · G·H₀ · Σ_s T_s. */
     public long projectionCacheBytes(InputBatch batch) {
         long steps = 0;
         for (int s = 0; s < batch.size(); s++) {
             steps += batch.length(s);
         }
-        return 4L * 3 * layers[0].hidden * steps;
+        return 4L * layers[0].width * steps;
     }
 
     /** Whether batches like {@code batch} get cached input projections (their size is within the limit). */
@@ -133,15 +164,15 @@ public final class NativeGruDecoder implements Decoder {
 
     /** Binds {@code batch} with the given projection mode. */
     Bound bind(InputBatch batch, Mode mode) {
-        if (batch.regions() != network.inputs()) {
-            throw new IllegalArgumentException("batch has " + batch.regions() + " regions, the model takes " + network.inputs());
+        if (batch.regions() != inputs) {
+            throw new IllegalArgumentException("batch has " + batch.regions() + " regions, the model takes " + inputs);
         }
         return new BoundBatch(batch, mode);
     }
 
     /** Class probabilities of one time-major input of {@code length} steps. */
     public float[] probabilities(float[] input, int length) {
-        int n = network.inputs();
+        int n = inputs;
         if (length < 1 || input.length < (long) length * n) {
             throw new IllegalArgumentException("input of " + input.length + " floats does not hold " + length + " steps of "
                     + n + " regions");
@@ -185,20 +216,26 @@ public final class NativeGruDecoder implements Decoder {
 
     // ---------------------------------------------------------------- layers and bound batches
 
+    /** The recurrent cell of a layer. */
+    private enum Cell { GRU_LINEAR_BEFORE_RESET, GRU_RESET_BEFORE_LINEAR, LSTM }
+
     /** One layer's weights as rows per input unit (the loop shape the JIT vectorises), gate order z, r, h. */
     private static final class Layer {
+        final Cell cell;
         final int input;
         final int hidden;
+        /** Gates × hidden: the width of the input projection. */
+        final int width;
         final boolean lbr;
-        /** [input][3H]: column i of W. */
+        /** [input][G·H]: column i of W. */
         final float[][] wt;
-        /** With linear_before_reset, [H][3H]: column j of R; else null. */
+        /** With linear_before_reset or for an LSTM, [H][G·H]: column j of R; else null. */
         final float[][] rt;
         /** Without linear_before_reset, [H][2H]: column j of R_z and R_r; else null. */
         final float[][] rzr;
         /** Without linear_before_reset, [H][H]: column j of R_h; else null. */
         final float[][] rh;
-        /** Wb + Rb for z and r, Wb for h. */
+        /** GRU: Wb + Rb for z and r, Wb for h. LSTM: Wb + Rb for every gate. */
         final float[] bias;
         /** Rb_h. */
         final float[] rbh;
@@ -210,10 +247,49 @@ public final class NativeGruDecoder implements Decoder {
         final PackedMatrix rzrp;
         final PackedMatrix rhp;
 
+        Layer(LstmLayer layer) {
+            cell = Cell.LSTM;
+            input = layer.input();
+            hidden = layer.hidden();
+            width = 4 * hidden;
+            lbr = false;
+            int g4 = width;
+            float[] w = layer.w();
+            float[] r = layer.r();
+            float[] wb = layer.wb();
+            float[] rb = layer.rb();
+            wt = new float[input][g4];
+            for (int g = 0; g < g4; g++) {
+                for (int i = 0; i < input; i++) {
+                    wt[i][g] = w[g * input + i];
+                }
+            }
+            rt = new float[hidden][g4];
+            for (int g = 0; g < g4; g++) {
+                for (int j = 0; j < hidden; j++) {
+                    rt[j][g] = r[g * hidden + j];
+                }
+            }
+            rzr = null;
+            rh = null;
+            bias = new float[g4];
+            for (int g = 0; g < g4; g++) {
+                bias[g] = wb[g] + rb[g];
+            }
+            rbh = null;
+            rbh3 = null;
+            wp = KERNELS.pack(wt, g4);
+            rp = KERNELS.pack(rt, g4);
+            rzrp = null;
+            rhp = null;
+        }
+
         Layer(GruLayer layer) {
             input = layer.input();
             hidden = layer.hidden();
+            width = 3 * hidden;
             lbr = layer.linearBeforeReset();
+            cell = lbr ? Cell.GRU_LINEAR_BEFORE_RESET : Cell.GRU_RESET_BEFORE_LINEAR;
             int h = hidden;
             int g3 = 3 * h;
             float[] w = layer.w();
@@ -391,7 +467,7 @@ public final class NativeGruDecoder implements Decoder {
 
         private float[][] buildCache(int threads) {
             Layer first = layers[0];
-            int g3 = 3 * first.hidden;
+            int g3 = first.width;
             float[][] proj = new float[n][];
             for (int s = 0; s < n; s++) {
                 proj[s] = new float[batch.length(s) * g3];
@@ -434,8 +510,15 @@ public final class NativeGruDecoder implements Decoder {
                     Arrays.fill(h[i], 0f);
                 }
             }
+            for (float[][] c : sc.cells) {
+                if (c != null) {
+                    for (int i = 0; i < bn; i++) {
+                        Arrays.fill(c[i], 0f);
+                    }
+                }
+            }
             Layer first = layers[0];
-            int g3 = 3 * first.hidden;
+            int g3 = first.width;
             int[] lesion = mask.regions().positions();
             int kin = proj != null ? corrections(b0, bn, mask, lesion, sc) : plainInputs(b0, bn, mask, lesion, sc);
             int act = bn;
@@ -460,7 +543,7 @@ public final class NativeGruDecoder implements Decoder {
                 step(first, sc, 0, act);
                 for (int l = 1; l < layers.length; l++) {
                     Layer layer = layers[l];
-                    int lg3 = 3 * layer.hidden;
+                    int lg3 = layer.width;
                     for (int i = 0; i < act; i++) {
                         System.arraycopy(layer.bias, 0, sc.x[i], 0, lg3);
                     }
@@ -624,7 +707,14 @@ public final class NativeGruDecoder implements Decoder {
         private void step(Layer layer, Scratch sc, int l, int act) {
             float[][] h = sc.h[l];
             int hid = layer.hidden;
-            if (layer.lbr) {
+            if (layer.cell == Cell.LSTM) {
+                // Every gate is W·x + R·h + biases: the recurrent product adds straight into the input projections.
+                gemm(h, 0, layer.rp, sc.x, act);
+                float[][] c = sc.cells[l];
+                for (int i = 0; i < act; i++) {
+                    KERNELS.lstmCell(sc.x[i], h[i], c[i], sc.s, hid);
+                }
+            } else if (layer.lbr) {
                 int g3 = 3 * hid;
                 for (int i = 0; i < act; i++) {
                     Arrays.fill(sc.g[i], 0, g3, 0f);
@@ -656,6 +746,8 @@ public final class NativeGruDecoder implements Decoder {
         final float[][] x;
         final float[][] g;
         final float[][][] h;
+        /** LSTM cell states per layer (null for GRU layers). */
+        final float[][][] cells;
         final float[][] z;
         final float[][] rh;
         final float[] s;
@@ -673,15 +765,17 @@ public final class NativeGruDecoder implements Decoder {
             int maxH = 0;
             boolean resetFirst = false;
             for (Layer l : layers) {
-                maxG = Math.max(maxG, 3 * l.hidden);
+                maxG = Math.max(maxG, l.width);
                 maxH = Math.max(maxH, l.hidden);
-                resetFirst |= !l.lbr;
+                resetFirst |= l.cell == Cell.GRU_RESET_BEFORE_LINEAR;
             }
             x = new float[rows][maxG];
             g = new float[rows][maxG];
             h = new float[layers.length][][];
+            cells = new float[layers.length][][];
             for (int l = 0; l < layers.length; l++) {
                 h[l] = new float[rows][layers[l].hidden];
+                cells[l] = layers[l].cell == Cell.LSTM ? new float[rows][layers[l].hidden] : null;
             }
             z = resetFirst ? new float[rows][maxH] : null;
             rh = resetFirst ? new float[rows][maxH] : null;
