@@ -62,4 +62,55 @@ class EnginesAgreeUnderLesionsTest {
             assertTrue(worst <= 1e-4, mode + ": max abs difference of probabilities " + worst);
         }
     }
+
+    static java.util.stream.Stream<org.junit.jupiter.params.provider.Arguments> recurrentFixturesAndModes()
+            throws java.io.IOException {
+        List<org.junit.jupiter.params.provider.Arguments> out = new ArrayList<>();
+        for (String json : OnnxFixtureTest.fixtureFiles().toList()) {
+            if (OnnxFixtureTest.NON_CANONICAL.containsKey(json.replace(".json", ".onnx"))) {
+                continue;
+            }
+            for (LesionMode mode : LesionMode.values()) {
+                out.add(org.junit.jupiter.params.provider.Arguments.of(json, mode));
+            }
+        }
+        return out.stream();
+    }
+
+    // Source: ONNX GRU and LSTM operator specifications; ONNX Runtime as the reference implementation, on the models
+    // written by an independent exporter (tests/fixtures/onnx).
+    @ParameterizedTest
+    @org.junit.jupiter.params.provider.MethodSource("recurrentFixturesAndModes")
+    void nativeAndOnnxRuntimeAgreeOnTheExportedFixturesUnderLesions(String json, LesionMode mode)
+            throws java.io.IOException {
+        OnnxFixtureTest.Fixture f = OnnxFixtureTest.read(json);
+        OnnxOptions options = OnnxOptions.defaults().withClassesFile(f.classes());
+        try (Decoder nat = OnnxModels.load(f.model(), options.withEngine(OnnxOptions.Engine.NATIVE));
+             Decoder ort = OnnxModels.load(f.model(), options.withEngine(OnnxOptions.Engine.ONNXRUNTIME))) {
+            int n = nat.card().regions();
+            org.cruxset.scoring.decoder.InputBatch batch = f.batch();
+            String[] ids = new String[batch.size()];
+            for (int s = 0; s < ids.length; s++) {
+                ids[s] = "sample" + s;
+            }
+            LesionFill fill = LesionFills.of(mode, 13L, ReferenceStats.of(batch), batch, List.of(ids));
+            List<InputMask> masks = new ArrayList<>();
+            masks.add(new InputMask(RegionSet.empty(n), fill));
+            masks.add(new InputMask(RegionSet.of(n, 0), fill));
+            masks.add(new InputMask(RegionSet.of(n, 1, 4), fill));
+            masks.add(new InputMask(RegionSet.of(n, 0, 2, 3, 5), fill));
+            masks.add(new InputMask(RegionSet.all(n), fill));
+            float[][][] a = nat.bind(batch).probabilities(masks, 2);
+            float[][][] b = ort.bind(batch).probabilities(masks, 2);
+            double worst = 0;
+            for (int m = 0; m < a.length; m++) {
+                for (int s = 0; s < a[m].length; s++) {
+                    for (int k = 0; k < a[m][s].length; k++) {
+                        worst = Math.max(worst, Math.abs(a[m][s][k] - b[m][s][k]));
+                    }
+                }
+            }
+            assertTrue(worst <= 1e-4, json + " " + mode + ": max abs difference of probabilities " + worst);
+        }
+    }
 }

@@ -98,9 +98,10 @@ class OnnxFixtureTest {
     @ParameterizedTest
     @MethodSource("fixtureFiles")
     void fixtureDecodesAsItsFrameworkDid(String jsonName) throws IOException {
-        // Source: each fixture's "source" field: PyTorch 1.13 nn.GRU forward (torch.onnx.export of the same module),
-        // PyTorch 1.13 nn.GRU on a pack_padded_sequence batch (seqlens_graph), or the float64 numpy implementation of
-        // the ONNX GRU operator specification in make_fixtures.py (lbr0_graph); see tests/fixtures/onnx/README.md
+        // Source: each fixture's "source" field: PyTorch 1.13 nn.GRU or nn.LSTM forward (torch.onnx.export of the same
+        // module), PyTorch 1.13 nn.GRU or nn.LSTM on a pack_padded_sequence batch (seqlens_graph, lstm_seqlens_graph),
+        // or the float64 numpy implementation of the ONNX GRU operator specification in make_fixtures.py (lbr0_graph);
+        // see tests/fixtures/onnx/README.md
         Fixture f = read(jsonName);
         String name = f.model().getFileName().toString();
         OnnxOptions options = OnnxOptions.defaults().withClassesFile(f.classes());
@@ -116,7 +117,9 @@ class OnnxFixtureTest {
             try (Decoder auto = OnnxModels.load(f.model(), options)) {
                 assertInstanceOf(NativeRecurrentDecoder.class, auto, why);
                 assertEquals(OnnxModels.NATIVE, auto.card().engine());
-                assertTrue(auto.card().engineReason().startsWith("canonical GRU form: "), auto.card().engineReason());
+                String cell = name.contains("lstm") ? "LSTM" : "GRU";
+                assertTrue(auto.card().engineReason().startsWith("canonical " + cell + " form: "),
+                        auto.card().engineReason());
                 System.out.println(name + ": " + auto.card().engineReason());
             }
             engines.add(Engine.NATIVE);
