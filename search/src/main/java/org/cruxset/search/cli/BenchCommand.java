@@ -71,7 +71,7 @@ public final class BenchCommand implements Callable<Integer> {
     @Option(names = "--regions", paramLabel = "N", defaultValue = "300", description = "Input regions. Default: ${DEFAULT-VALUE}.")
     int regions;
 
-    @Option(names = "--hidden", paramLabel = "H", defaultValue = "128", description = "GRU hidden size. Default: ${DEFAULT-VALUE}.")
+    @Option(names = "--hidden", paramLabel = "H", defaultValue = "128", description = "Hidden size of the recurrent layer. Default: ${DEFAULT-VALUE}.")
     int hidden;
 
     @Option(names = "--steps", paramLabel = "T", defaultValue = "200", description = "Time points per sample. Default: ${DEFAULT-VALUE}.")
@@ -88,6 +88,10 @@ public final class BenchCommand implements Callable<Integer> {
 
     @Mixin
     ThreadOptions threads;
+
+    @Option(names = "--cell", paramLabel = "CELL", defaultValue = "gru",
+            description = "engine suite: the recurrent cell of the workload model, gru or lstm. Default: ${DEFAULT-VALUE}.")
+    String cell;
 
     @Option(names = "--suite", paramLabel = "NAME", defaultValue = "engine",
             description = "engine (scored sets per second of both engines on the reference workload), search (strategies "
@@ -202,34 +206,43 @@ public final class BenchCommand implements Callable<Integer> {
         PrintWriter out = spec.commandLine().getOut();
         int nThreads = threads.threads();
         SplittableRandom rng = new SplittableRandom(seed);
-        GruNetwork net = network(rng);
+        boolean lstm = switch (cell) {
+            case "gru" -> false;
+            case "lstm" -> true;
+            default -> throw new IllegalArgumentException("--cell must be gru or lstm, found '" + cell + "'");
+        };
+        int gates = lstm ? 4 : 3;
+        GruNetwork net = lstm ? null : network(rng);
+        org.cruxset.scoring.lstm.LstmNetwork lnet = lstm ? lstmNetwork(rng) : null;
         InputBatch batch = inputs(rng);
         List<String> labels = new ArrayList<>();
         for (int k = 0; k < classes; k++) {
             labels.add("class" + k);
         }
-        out.printf(Locale.ROOT, "Workload: %d samples x %d steps x %d regions; 1 GRU layer of %d units "
-                + "(linear_before_reset 1); %d classes; seed %d%n", samples, steps, regions, hidden, classes, seed);
+        out.printf(Locale.ROOT, "Workload: %d samples x %d steps x %d regions; 1 %s layer of %d units%s; %d classes; "
+                + "seed %d%n", samples, steps, regions, lstm ? "LSTM" : "GRU", hidden, lstm ? ""
+                : " (linear_before_reset 1)", classes, seed);
         out.printf(Locale.ROOT, "Lesion sets: %d regions drawn at random, zero fill, %d sets per call on %d thread%s%n",
                 lesionSize, SETS_PER_CALL, nThreads, nThreads == 1 ? "" : "s");
         Path file;
         try {
             file = Files.createTempFile("cruxset-bench-", ".onnx");
-            Files.write(file, OnnxGruWriter.write(net, List.of(), labels, Preprocessing.NONE, Map.of()));
+            Files.write(file, lstm ? OnnxGruWriter.write(lnet, List.of(), labels, Preprocessing.NONE, Map.of())
+                    : OnnxGruWriter.write(net, List.of(), labels, Preprocessing.NONE, Map.of()));
         } catch (IOException e) {
             throw new UncheckedIOException("cannot write the benchmark model: " + e.getMessage(), e);
         }
         OnnxOptions options = OnnxOptions.defaults();
-        double gflopPerSet = usefulGflopPerSet(net, batch);
-        out.printf(Locale.ROOT, "Useful work per scored set: %.2f GFLOP (recurrence 2 x H x 3H per sample-step, plus the "
-                + "%d-region input correction 2 x %d x 3H)%n", gflopPerSet, lesionSize, lesionSize);
+        double gflopPerSet = usefulGflopPerSet(gates, batch);
+        out.printf(Locale.ROOT, "Useful work per scored set: %.2f GFLOP (recurrence 2 x H x %dH per sample-step, plus the "
+                + "%d-region input correction 2 x %d x %dH)%n", gflopPerSet, gates, lesionSize, lesionSize, gates);
         try (Decoder nat = OnnxModels.load(file, options.withEngine(Engine.NATIVE));
              Decoder ort = OnnxModels.load(file, options.withEngine(Engine.ONNXRUNTIME));
              Decoder ortIntra = OnnxModels.load(file, options.withEngine(Engine.ONNXRUNTIME), nThreads)) {
             if (nat instanceof NativeRecurrentDecoder g) {
                 double mb = g.projectionCacheBytes(batch) / (double) (1 << 20);
-                out.printf(Locale.ROOT, "Projection cache: %.1f MB (4 bytes x 3 x %d units x %d sample-steps), limit %d MB: %s%n",
-                        mb, hidden, (long) samples * steps, g.projectionCacheLimitMB(),
+                out.printf(Locale.ROOT, "Projection cache: %.1f MB (4 bytes x %d x %d units x %d sample-steps), limit %d MB: %s%n",
+                        mb, gates, hidden, (long) samples * steps, g.projectionCacheLimitMB(),
                         g.cachesProjections(batch) ? "cached" : "not cached, full projection per set");
             }
             out.printf(Locale.ROOT, "Native kernels: %s%s%n", Kernels.get().name(), Kernels.vectorAvailable() ? ""
@@ -269,7 +282,9 @@ public final class BenchCommand implements Callable<Integer> {
                     100 * n.rate() * gflopPerSet / p.gflops(), reference > p.gflops()
                             ? " (the measured reference exceeds it: the reported clock is below the running clock)" : ""),
                     () -> out.println("Theoretical FMA peak: not reported (no /proc/cpuinfo with flags and cpu MHz)"));
-            gradientPass(out, net, batch, n.rate(), nThreads);
+            if (net != null) {
+                gradientPass(out, net, batch, n.rate(), nThreads);
+            }
             for (Meter m : meters.subList(1, meters.size())) {
                 int common = Math.min(n.results.size(), m.results.size());
                 double diff = 0;
@@ -289,19 +304,13 @@ public final class BenchCommand implements Callable<Integer> {
         return 0;
     }
 
-    /** GFLOP of one scored set: every layer's recurrence and input projection beyond layer 0, plus the correction. */
-    private double usefulGflopPerSet(GruNetwork net, InputBatch batch) {
+    /** GFLOP of one scored set of the one-layer workload: the recurrence plus the lesioned regions' correction. */
+    private double usefulGflopPerSet(int gates, InputBatch batch) {
         long sampleSteps = 0;
         for (int s = 0; s < batch.size(); s++) {
             sampleSteps += batch.length(s);
         }
-        double perStep = 0;
-        for (int l = 0; l < net.layers().size(); l++) {
-            GruLayer layer = net.layers().get(l);
-            int h = layer.hidden();
-            perStep += 2.0 * h * 3 * h;
-            perStep += 2.0 * (l == 0 ? lesionSize : layer.input()) * 3 * h;
-        }
+        double perStep = 2.0 * hidden * gates * hidden + 2.0 * lesionSize * gates * hidden;
         return perStep * sampleSteps / 1e9;
     }
 
@@ -487,6 +496,17 @@ public final class BenchCommand implements Callable<Integer> {
                 uniform(rng, 3 * hidden * hidden, rScale), uniform(rng, 3 * hidden, rScale), uniform(rng, 3 * hidden, rScale),
                 true);
         return new GruNetwork(List.of(layer), classes, uniform(rng, classes * hidden, rScale), uniform(rng, classes, rScale));
+    }
+
+    /** A random single-layer LSTM with weights uniform in ±1/√fan-in. */
+    private org.cruxset.scoring.lstm.LstmNetwork lstmNetwork(SplittableRandom rng) {
+        double wScale = 1 / Math.sqrt(regions);
+        double rScale = 1 / Math.sqrt(hidden);
+        org.cruxset.scoring.lstm.LstmLayer layer = new org.cruxset.scoring.lstm.LstmLayer(regions, hidden,
+                uniform(rng, 4 * hidden * regions, wScale), uniform(rng, 4 * hidden * hidden, rScale),
+                uniform(rng, 4 * hidden, rScale), uniform(rng, 4 * hidden, rScale));
+        return new org.cruxset.scoring.lstm.LstmNetwork(List.of(layer), classes, uniform(rng, classes * hidden, rScale),
+                uniform(rng, classes, rScale));
     }
 
     private static float[] uniform(SplittableRandom rng, int n, double scale) {
