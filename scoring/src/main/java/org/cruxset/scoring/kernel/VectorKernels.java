@@ -132,31 +132,20 @@ final class VectorKernels implements EngineKernels {
 
     // ---------------------------------------------------------------- cell updates
 
-    private static final float A13 = -2.76076847742355e-16f;
-    private static final float A11 = 2.00018790482477e-13f;
-    private static final float A9 = -8.60467152213735e-11f;
-    private static final float A7 = 5.12229709037114e-08f;
-    private static final float A5 = 1.48572235717979e-05f;
-    private static final float A3 = 6.37261928875436e-04f;
-    private static final float A1 = 4.89352455891786e-03f;
-    private static final float B6 = 1.19825839466702e-06f;
-    private static final float B4 = 1.18534705686654e-04f;
-    private static final float B2 = 2.26843463243900e-03f;
-    private static final float B0 = 4.89352518554385e-03f;
-
     /** {@link Activations#tanh} lane-wise, the same operations in the same order. */
     static FloatVector tanh(FloatVector v) {
         FloatVector x = v.min(9f).max(-9f);
         FloatVector x2 = x.mul(x);
-        FloatVector p = FloatVector.broadcast(S, A13).fma(x2, FloatVector.broadcast(S, A11));
-        p = p.fma(x2, FloatVector.broadcast(S, A9));
-        p = p.fma(x2, FloatVector.broadcast(S, A7));
-        p = p.fma(x2, FloatVector.broadcast(S, A5));
-        p = p.fma(x2, FloatVector.broadcast(S, A3));
-        p = p.fma(x2, FloatVector.broadcast(S, A1)).mul(x);
-        FloatVector q = FloatVector.broadcast(S, B6).fma(x2, FloatVector.broadcast(S, B4));
-        q = q.fma(x2, FloatVector.broadcast(S, B2));
-        q = q.fma(x2, FloatVector.broadcast(S, B0));
+        FloatVector p = FloatVector.broadcast(S, Activations.TANH_A13)
+                .fma(x2, FloatVector.broadcast(S, Activations.TANH_A11));
+        p = p.fma(x2, FloatVector.broadcast(S, Activations.TANH_A9));
+        p = p.fma(x2, FloatVector.broadcast(S, Activations.TANH_A7));
+        p = p.fma(x2, FloatVector.broadcast(S, Activations.TANH_A5));
+        p = p.fma(x2, FloatVector.broadcast(S, Activations.TANH_A3));
+        p = p.fma(x2, FloatVector.broadcast(S, Activations.TANH_A1)).mul(x);
+        FloatVector q = FloatVector.broadcast(S, Activations.TANH_B6).fma(x2, FloatVector.broadcast(S, Activations.TANH_B4));
+        q = q.fma(x2, FloatVector.broadcast(S, Activations.TANH_B2));
+        q = q.fma(x2, FloatVector.broadcast(S, Activations.TANH_B0));
         return p.div(q);
     }
 
