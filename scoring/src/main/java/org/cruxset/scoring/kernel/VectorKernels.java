@@ -143,7 +143,8 @@ final class VectorKernels implements EngineKernels {
         p = p.fma(x2, FloatVector.broadcast(S, Activations.TANH_A5));
         p = p.fma(x2, FloatVector.broadcast(S, Activations.TANH_A3));
         p = p.fma(x2, FloatVector.broadcast(S, Activations.TANH_A1)).mul(x);
-        FloatVector q = FloatVector.broadcast(S, Activations.TANH_B6).fma(x2, FloatVector.broadcast(S, Activations.TANH_B4));
+        FloatVector q = FloatVector.broadcast(S, Activations.TANH_B6)
+                .fma(x2, FloatVector.broadcast(S, Activations.TANH_B4));
         q = q.fma(x2, FloatVector.broadcast(S, Activations.TANH_B2));
         q = q.fma(x2, FloatVector.broadcast(S, Activations.TANH_B0));
         return p.div(q);
