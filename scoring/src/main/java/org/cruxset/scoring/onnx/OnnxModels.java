@@ -1,5 +1,6 @@
 package org.cruxset.scoring.onnx;
 
+import org.cruxset.scoring.onnx.reader.ModelReader;
 import ai.onnx.proto.OnnxMl.ModelProto;
 import java.io.IOException;
 import java.nio.charset.StandardCharsets;
@@ -15,12 +16,11 @@ import java.util.Objects;
 import org.cruxset.scoring.decoder.Decoder;
 import org.cruxset.scoring.decoder.ModelCard;
 import org.cruxset.scoring.decoder.Preprocessing;
-import org.cruxset.scoring.gru.GruNetwork;
 import org.cruxset.scoring.gru.NativeRecurrentDecoder;
-import org.cruxset.scoring.onnx.OnnxGruReader.Analysis;
-import org.cruxset.scoring.onnx.OnnxGruReader.Canonical;
-import org.cruxset.scoring.onnx.OnnxGruReader.Refused;
-import org.cruxset.scoring.onnx.OnnxGruReader.Signature;
+import org.cruxset.scoring.onnx.reader.ModelReader.Analysis;
+import org.cruxset.scoring.onnx.reader.ModelReader.Canonical;
+import org.cruxset.scoring.onnx.reader.ModelReader.Refused;
+import org.cruxset.scoring.onnx.reader.ModelReader.Signature;
 import org.cruxset.scoring.onnx.OnnxOptions.Engine;
 import org.cruxset.scoring.onnx.OnnxOptions.Layout;
 
@@ -55,18 +55,18 @@ public final class OnnxModels {
         ModelProto proto;
         Signature sig;
         try {
-            proto = OnnxGruReader.parse(bytes);
-            sig = OnnxGruReader.signature(proto);
+            proto = ModelReader.parse(bytes);
+            sig = ModelReader.signature(proto);
         } catch (IllegalArgumentException e) {
             throw new IllegalArgumentException("model " + model + ": " + e.getMessage(), e);
         }
-        Analysis analysis = OnnxGruReader.analyse(proto);
+        Analysis analysis = ModelReader.analyse(proto);
         Canonical canonical = analysis instanceof Canonical c ? c : null;
         String refusal = analysis instanceof Refused r ? r.reason() : null;
         Map<String, String> meta = sig.metadata();
 
         List<String> labels = classLabels(model, options.classesFile(), meta);
-        int width = canonical != null ? OnnxGruReader.classes(canonical) : sig.classes();
+        int width = canonical != null ? ModelReader.classes(canonical) : sig.classes();
         if (width > 0 && width != labels.size()) {
             throw new IllegalArgumentException("model " + model + " gives " + width + " class scores but "
                     + labels.size() + " class labels were given" + (options.classesFile() != null
@@ -87,7 +87,7 @@ public final class OnnxModels {
         }
         List<String> regionNames = meta.containsKey(OnnxGruWriter.REGIONS_KEY)
                 ? lines(meta.get(OnnxGruWriter.REGIONS_KEY)) : List.of();
-        int regions = canonical != null ? OnnxGruReader.inputs(canonical)
+        int regions = canonical != null ? ModelReader.inputs(canonical)
                 : sig.regions() > 0 ? sig.regions() : regionNames.size();
         if (regions < 1) {
             throw new IllegalArgumentException("model " + model + " does not fix the region count of input '"
@@ -124,7 +124,7 @@ public final class OnnxModels {
             reason = "not in canonical GRU or LSTM form: " + refusal;
         }
         ModelCard card = card(model, regions, regionNames, labels, pre, ONNXRUNTIME, reason, hash, meta);
-        OnnxGruReader.Output kind = canonical != null ? canonical.output() : sig.outputKind();
+        ModelReader.Output kind = canonical != null ? canonical.output() : sig.outputKind();
         try {
             // By default one intra-op thread per run; runs go in parallel over the caller's threads (bench measures
             // this against all-core intra-op runs with one caller and prints both).

@@ -1,5 +1,6 @@
 package org.cruxset.scoring.onnx;
 
+import org.cruxset.scoring.onnx.reader.ModelReader;
 import ai.onnxruntime.NodeInfo;
 import ai.onnxruntime.OnnxJavaType;
 import ai.onnxruntime.OnnxTensor;
@@ -26,7 +27,7 @@ import org.cruxset.scoring.decoder.InputBatch;
 import org.cruxset.scoring.decoder.InputMask;
 import org.cruxset.scoring.decoder.ModelCard;
 import org.cruxset.scoring.internal.Parallel;
-import org.cruxset.scoring.onnx.OnnxGruReader.Output;
+import org.cruxset.scoring.onnx.reader.ModelReader.Output;
 import org.cruxset.scoring.onnx.OnnxOptions.Layout;
 
 /**

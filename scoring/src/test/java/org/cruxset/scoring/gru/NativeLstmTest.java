@@ -26,7 +26,7 @@ import org.cruxset.scoring.decoder.Preprocessing;
 import org.cruxset.scoring.gru.NativeRecurrentDecoder.Mode;
 import org.cruxset.scoring.lstm.LstmLayer;
 import org.cruxset.scoring.lstm.LstmNetwork;
-import org.cruxset.scoring.onnx.OnnxGruReader;
+import org.cruxset.scoring.onnx.reader.ModelReader;
 import org.cruxset.scoring.onnx.OnnxGruWriter;
 import org.cruxset.scoring.onnx.OnnxModels;
 import org.cruxset.scoring.onnx.OnnxOptions;
@@ -201,9 +201,9 @@ class NativeLstmTest {
             LstmNetwork net = randomLstm(rng, N, hidden, K, 0.9);
             Path file = dir.resolve("lstm" + index++ + ".onnx");
             Files.write(file, OnnxGruWriter.write(net, List.of(), card(net).classLabels(), Preprocessing.NONE, Map.of()));
-            OnnxGruReader.Analysis a = OnnxGruReader.analyse(OnnxGruReader.parse(Files.readAllBytes(file)));
-            assertTrue(a instanceof OnnxGruReader.Canonical, a.toString());
-            OnnxGruReader.Canonical c = (OnnxGruReader.Canonical) a;
+            ModelReader.Analysis a = ModelReader.analyse(ModelReader.parse(Files.readAllBytes(file)));
+            assertTrue(a instanceof ModelReader.Canonical, a.toString());
+            ModelReader.Canonical c = (ModelReader.Canonical) a;
             assertEquals(hidden.length, c.lstm().layers().size());
             assertArrayEquals(net.layers().get(0).w(), c.lstm().layers().get(0).w());
             assertTrue(c.description().startsWith("canonical LSTM form: " + (hidden.length == 1 ? "1 LSTM layer"

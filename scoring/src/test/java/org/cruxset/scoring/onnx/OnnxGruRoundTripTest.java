@@ -1,5 +1,6 @@
 package org.cruxset.scoring.onnx;
 
+import org.cruxset.scoring.onnx.reader.ModelReader;
 import static org.cruxset.scoring.onnx.OnnxTestSupport.maxAbsDiff;
 import static org.cruxset.scoring.onnx.OnnxTestSupport.randomBatch;
 import static org.cruxset.scoring.onnx.OnnxTestSupport.randomNetwork;
@@ -105,10 +106,10 @@ class OnnxGruRoundTripTest {
         Random rng = new Random(7);
         GruNetwork net = randomNetwork(rng, N, new int[] {6, 8}, new boolean[] {false, true}, K, 0.5);
         byte[] bytes = OnnxGruWriter.write(net, REGIONS, CLASSES, Preprocessing.ZSCORE, Map.of("note", "x"));
-        OnnxGruReader.Canonical c = assertInstanceOf(OnnxGruReader.Canonical.class,
-                OnnxGruReader.analyse(OnnxGruReader.parse(bytes)));
+        ModelReader.Canonical c = assertInstanceOf(ModelReader.Canonical.class,
+                ModelReader.analyse(ModelReader.parse(bytes)));
         assertEquals(Layout.BATCH_FIRST, c.layout());
-        assertEquals(OnnxGruReader.Output.PROBABILITIES, c.output());
+        assertEquals(ModelReader.Output.PROBABILITIES, c.output());
         assertTrue(c.hasLengths());
         assertEquals("canonical GRU form: 2 stacked GRU layers, Y_h readout, Gemm, Softmax output, batch-first input, "
                 + "lengths input 'lengths'", c.description());
@@ -172,8 +173,8 @@ class OnnxGruRoundTripTest {
             g.addNode(b);
         }
         byte[] bytes = m.toBuilder().setGraph(g).build().toByteArray();
-        OnnxGruReader.Canonical c = assertInstanceOf(OnnxGruReader.Canonical.class,
-                OnnxGruReader.analyse(OnnxGruReader.parse(bytes)));
+        ModelReader.Canonical c = assertInstanceOf(ModelReader.Canonical.class,
+                ModelReader.analyse(ModelReader.parse(bytes)));
         assertEquals(Layout.TIME_FIRST, c.layout());
         assertTrue(!c.hasLengths());
         Path file = save(dir, "tf.onnx", bytes);

@@ -1,5 +1,6 @@
 package org.cruxset.scoring.onnx;
 
+import org.cruxset.scoring.onnx.reader.ModelReader;
 import static org.cruxset.scoring.onnx.OnnxTestSupport.attr;
 import static org.cruxset.scoring.onnx.OnnxTestSupport.bias;
 import static org.cruxset.scoring.onnx.OnnxTestSupport.ints;
@@ -27,17 +28,17 @@ import org.cruxset.scoring.decoder.InputMask;
 import org.cruxset.scoring.gru.GruLayer;
 import org.cruxset.scoring.gru.GruNetwork;
 import org.cruxset.scoring.lesion.RegionSet;
-import org.cruxset.scoring.onnx.OnnxGruReader.Analysis;
-import org.cruxset.scoring.onnx.OnnxGruReader.Canonical;
-import org.cruxset.scoring.onnx.OnnxGruReader.Output;
-import org.cruxset.scoring.onnx.OnnxGruReader.Refused;
+import org.cruxset.scoring.onnx.reader.ModelReader.Analysis;
+import org.cruxset.scoring.onnx.reader.ModelReader.Canonical;
+import org.cruxset.scoring.onnx.reader.ModelReader.Output;
+import org.cruxset.scoring.onnx.reader.ModelReader.Refused;
 import org.cruxset.scoring.onnx.OnnxOptions.Engine;
 import org.cruxset.scoring.onnx.OnnxOptions.Layout;
 import org.cruxset.scoring.onnx.OnnxTestSupport.Graph;
 import org.junit.jupiter.api.Test;
 import org.junit.jupiter.api.io.TempDir;
 
-class OnnxGruReaderTest {
+class ModelReaderTest {
     static final int N = 5;
     static final int H = 6;
     static final int K = 3;
@@ -81,12 +82,12 @@ class OnnxGruReaderTest {
     }
 
     static String refusal(ModelProto m) {
-        Analysis a = OnnxGruReader.analyse(m);
+        Analysis a = ModelReader.analyse(m);
         return assertInstanceOf(Refused.class, a, () -> "expected a refusal, got " + a).reason();
     }
 
     static Canonical canonical(ModelProto m) {
-        Analysis a = OnnxGruReader.analyse(m);
+        Analysis a = ModelReader.analyse(m);
         return assertInstanceOf(Canonical.class, a, () -> "expected canonical form, got " + a);
     }
 
