@@ -38,7 +38,7 @@ final class Interpreter {
     private static final long BIG_END = Integer.MAX_VALUE;
 
     private final GraphProto g;
-    private final long opset;
+    final long opset;
     private final Inputs inputs;
     private final Map<String, Val> vals = new HashMap<>();
     private final long[] inputDims;
@@ -459,10 +459,10 @@ final class Interpreter {
         if (d.kind() == Kind.SCORES) {
             switch (op) {
                 case "Add" -> {
-                    return addBias(in, d);
+                    return Readouts.addBias(this, in, d);
                 }
                 case "Softmax", "LogSoftmax" -> {
-                    return softmax(n, d);
+                    return Readouts.softmax(this, n, d);
                 }
                 default -> {
                     return new Bad(label + " after the readout " + d.head().name()
@@ -481,10 +481,10 @@ final class Interpreter {
                 return concatData(n, in);
             }
             case "Gemm" -> {
-                return gemm(n, in, d);
+                return Readouts.gemm(this, n, in, d);
             }
             case "MatMul" -> {
-                return matmul(in, d);
+                return Readouts.matmul(this, in, d);
             }
             default -> {
             }
@@ -511,7 +511,7 @@ final class Interpreter {
         };
     }
 
-    private Ax resolve(Ax a) {
+    Ax resolve(Ax a) {
         if (a == Ax.IN0 && bound0 != null) {
             return bound0;
         }
@@ -521,7 +521,7 @@ final class Interpreter {
         return a;
     }
 
-    private List<Ax> resolve(List<Ax> axes) {
+    List<Ax> resolve(List<Ax> axes) {
         List<Ax> r = new ArrayList<>(axes.size());
         for (Ax a : axes) {
             r.add(resolve(a));
@@ -529,12 +529,12 @@ final class Interpreter {
         return r;
     }
 
-    private String text(List<Ax> axes) {
+    String text(List<Ax> axes) {
         return resolve(axes).stream().map(a -> a.text).collect(Collectors.joining(", ", "[", "]"));
     }
 
     /** The axis size when the graph fixes it, 1 for singleton labels, else -1. */
-    private long size(Data d, Ax a) {
+    long size(Data d, Ax a) {
         Ax r = resolve(a);
         return switch (r) {
             case D, ONE -> 1;
@@ -545,7 +545,7 @@ final class Interpreter {
         };
     }
 
-    private long staticTime() {
+    long staticTime() {
         if (inputDims == null || inputDims.length != 3 || bound0 == null) {
             return -1;
         }
@@ -900,176 +900,6 @@ final class Interpreter {
         List<Ax> a = new ArrayList<>(first.axes());
         a.set(k, Ax.L);
         return new Data(Kind.STATE, List.copyOf(a), first.width(), null, List.copyOf(stack), first.source(), null);
-    }
-
-    private Val readoutInput(Data d, List<Ax> expected, String op) {
-        if (d.kind() == Kind.SEQ) {
-            return new Bad(label + " reads out the " + role(d) + " " + text(d.axes())
-                    + ", which still has a time axis; take the last step or Y_h first");
-        }
-        if (!resolve(d.axes()).equals(expected)) {
-            return new Bad(label + " (" + op + ") takes the " + role(d) + " with axes " + text(d.axes()) + ", expected "
-                    + text(expected));
-        }
-        if (d.chain() == null || d.chain().isEmpty()) {
-            return new Bad(label + " reads out the input series without a GRU or LSTM before it");
-        }
-        return null;
-    }
-
-    private Val gemm(NodeProto n, Val[] in, Data d) {
-        long transA = intAttr(n, "transA", 0);
-        long transB = intAttr(n, "transB", 0);
-        float alpha = floatAttr(n, "alpha", 1f);
-        float beta = floatAttr(n, "beta", 1f);
-        Val bad = readoutInput(d, transA == 0 ? List.of(Ax.B, Ax.F) : List.of(Ax.F, Ax.B), "Gemm");
-        if (bad != null) {
-            return bad;
-        }
-        if (!(in.length > 1 && in[1] instanceof Const cb && cb.t().isFloat() && cb.t().dims().length == 2)) {
-            return new Bad(label + " readout weights B are not a constant float matrix");
-        }
-        Tensor wt = cb.t();
-        int hid = d.width();
-        long[] wd = wt.dims();
-        int k = (int) (transB == 1 ? wd[0] : wd[1]);
-        int h = (int) (transB == 1 ? wd[1] : wd[0]);
-        if (h != hid) {
-            return new Bad(label + " readout weights " + wt.shape() + " (transB=" + transB + ") do not take "
-                    + hid + " hidden units");
-        }
-        float[] w = new float[k * h];
-        for (int c = 0; c < k; c++) {
-            for (int j = 0; j < h; j++) {
-                w[c * h + j] = alpha * (transB == 1 ? wt.f()[c * h + j] : wt.f()[j * k + c]);
-            }
-        }
-        float[] b = new float[k];
-        if (in.length > 2 && in[2] != null) {
-            if (!(in[2] instanceof Const cc && cc.t().isFloat())) {
-                return new Bad(label + " readout bias C is not a constant float tensor");
-            }
-            float[] bias = broadcastBias(cc.t(), 2, 1, k);
-            if (bias == null) {
-                return new Bad(label + " readout bias C of shape " + cc.t().shape()
-                        + " does not broadcast to [batch, " + k + "] without depending on the batch");
-            }
-            for (int c = 0; c < k; c++) {
-                b[c] = beta * bias[c];
-            }
-        }
-        return new Data(Kind.SCORES, List.of(Ax.B, Ax.C), k, d.chain(), null, d.source(),
-                new Head(w, b, "Gemm", label));
-    }
-
-    private Val matmul(Val[] in, Data d) {
-        List<Ax> axes = resolve(d.axes());
-        if (d.kind() == Kind.SEQ) {
-            return readoutInput(d, List.of(Ax.B, Ax.F), "MatMul");
-        }
-        if (axes.isEmpty() || axes.get(axes.size() - 1) != Ax.F || axes.stream().filter(a -> a == Ax.B).count() != 1
-                || axes.stream().anyMatch(a -> a != Ax.B && a != Ax.F && a != Ax.ONE && a != Ax.D)) {
-            return new Bad(label + " (MatMul) takes the " + role(d) + " with axes " + text(d.axes())
-                    + ", expected [batch, features]");
-        }
-        if (d.chain() == null || d.chain().isEmpty()) {
-            return new Bad(label + " reads out the input series without a GRU or LSTM before it");
-        }
-        if (!(in.length > 1 && in[1] instanceof Const cb && cb.t().isFloat() && cb.t().dims().length == 2)) {
-            return new Bad(label + " readout weights are not a constant float matrix [hidden, classes]");
-        }
-        Tensor wt = cb.t();
-        int h = (int) wt.dims()[0];
-        int k = (int) wt.dims()[1];
-        if (h != d.width()) {
-            return new Bad(label + " readout weights " + wt.shape() + " do not take " + d.width() + " hidden units");
-        }
-        float[] w = new float[k * h];
-        for (int c = 0; c < k; c++) {
-            for (int j = 0; j < h; j++) {
-                w[c * h + j] = wt.f()[j * k + c];
-            }
-        }
-        List<Ax> out = new ArrayList<>(d.axes());
-        out.set(out.size() - 1, Ax.C);
-        return new Data(Kind.SCORES, List.copyOf(out), k, d.chain(), null, d.source(),
-                new Head(w, new float[k], "MatMul", label));
-    }
-
-    private Val addBias(Val[] in, Data d) {
-        if (in.length != 2) {
-            return new Bad(label + " adds " + in.length + " inputs");
-        }
-        Val other = in[0] == d ? in[1] : in[0];
-        if (!(other instanceof Const c && c.t().isFloat())) {
-            return new Bad(label + " after the readout " + d.head().name()
-                    + " adds a value that is not a constant bias: only Softmax or LogSoftmax may follow");
-        }
-        int ci = resolve(d.axes()).indexOf(Ax.C);
-        float[] bias = broadcastBias(c.t(), d.axes().size(), ci, d.width());
-        if (bias == null) {
-            return new Bad(label + " adds a bias of shape " + c.t().shape() + " that does not broadcast to the "
-                    + d.width() + " classes without depending on the batch");
-        }
-        float[] b = d.head().b().clone();
-        for (int k = 0; k < b.length; k++) {
-            b[k] += bias[k];
-        }
-        String name = d.head().name().equals("MatMul") ? "MatMul+Add" : d.head().name() + "+Add";
-        return new Data(Kind.SCORES, d.axes(), d.width(), d.chain(), null, d.source(),
-                new Head(d.head().w(), b, name, d.head().node()));
-    }
-
-    /** The per-class bias of a constant broadcast (numpy rules) onto a tensor of rank r with classes at axis ci. */
-    private static float[] broadcastBias(Tensor t, int r, int ci, int k) {
-        long[] bd = t.dims();
-        if (bd.length > r) {
-            return null;
-        }
-        int off = r - bd.length;
-        boolean perClass = false;
-        for (int i = 0; i < bd.length; i++) {
-            int axis = off + i;
-            if (axis == ci && bd[i] == k) {
-                perClass = true;
-            } else if (bd[i] != 1) {
-                return null;
-            }
-        }
-        float[] b = new float[k];
-        for (int c = 0; c < k; c++) {
-            b[c] = perClass ? t.f()[c] : t.f()[0];
-        }
-        return b;
-    }
-
-    private Val softmax(NodeProto n, Data d) {
-        String op = n.getOpType();
-        int r = d.axes().size();
-        List<Ax> axes = resolve(d.axes());
-        long axis = intAttr(n, "axis", opset >= 13 ? -1 : 1);
-        int k = (int) (axis < 0 ? axis + r : axis);
-        boolean ok;
-        if (k < 0 || k >= r) {
-            ok = false;
-        } else if (opset >= 13) {
-            ok = axes.get(k) == Ax.C;
-        } else {
-            // Before opset 13 the input is coerced to 2-D at the axis and normalised over the trailing part.
-            int ci = axes.indexOf(Ax.C);
-            ok = ci >= k;
-            for (int i = k; i < r; i++) {
-                if (i != ci && size(d, d.axes().get(i)) != 1) {
-                    ok = false;
-                }
-            }
-        }
-        if (!ok) {
-            return new Bad(label + " normalises over axis " + axis + " of " + text(d.axes())
-                    + ", not over the classes");
-        }
-        return new Data(op.equals("Softmax") ? Kind.PROBS : Kind.LOGPROBS, d.axes(), d.width(), d.chain(), null,
-                d.source(), d.head());
     }
 
     /**

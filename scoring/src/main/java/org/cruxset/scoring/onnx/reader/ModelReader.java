@@ -23,7 +23,8 @@ import org.cruxset.scoring.onnx.OnnxOptions.Layout;
  *
  * <p>The package holds one file per concern: {@link GraphInterface} (inputs, output and layout as the graph declares
  * them), {@link Protos} (protobuf attributes and tensors), {@link Values} (the abstract values), {@link Interpreter}
- * (the abstract interpretation of the graph) and {@link RecurrentForms} (the GRU and LSTM recognisers).
+ * (the abstract interpretation of the graph), {@link RecurrentForms} (the GRU and LSTM recognisers) and
+ * {@link Readouts} (the readout recognisers).
  */
 public final class ModelReader {
     private ModelReader() {
