@@ -1,6 +1,5 @@
 package org.cruxset.scoring.onnx;
 
-import org.cruxset.scoring.onnx.reader.ModelReader;
 import ai.onnx.proto.OnnxMl.ModelProto;
 import java.io.IOException;
 import java.nio.charset.StandardCharsets;
@@ -23,6 +22,7 @@ import org.cruxset.scoring.onnx.reader.ModelReader.Refused;
 import org.cruxset.scoring.onnx.reader.ModelReader.Signature;
 import org.cruxset.scoring.onnx.OnnxOptions.Engine;
 import org.cruxset.scoring.onnx.OnnxOptions.Layout;
+import org.cruxset.scoring.onnx.reader.ModelReader;
 
 /** Opens ONNX decoder models: Cruxset's own engine for canonical GRU and LSTM models, ONNX Runtime for any other. */
 public final class OnnxModels {

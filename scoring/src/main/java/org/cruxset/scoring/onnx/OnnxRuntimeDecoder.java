@@ -1,6 +1,5 @@
 package org.cruxset.scoring.onnx;
 
-import org.cruxset.scoring.onnx.reader.ModelReader;
 import ai.onnxruntime.NodeInfo;
 import ai.onnxruntime.OnnxJavaType;
 import ai.onnxruntime.OnnxTensor;
@@ -29,6 +28,7 @@ import org.cruxset.scoring.decoder.ModelCard;
 import org.cruxset.scoring.internal.Parallel;
 import org.cruxset.scoring.onnx.reader.ModelReader.Output;
 import org.cruxset.scoring.onnx.OnnxOptions.Layout;
+import org.cruxset.scoring.onnx.reader.ModelReader;
 
 /**
  * Runs any ONNX classifier of region time series through ONNX Runtime. With a lengths input, samples share padded

@@ -26,11 +26,11 @@ import org.cruxset.scoring.decoder.Preprocessing;
 import org.cruxset.scoring.gru.NativeRecurrentDecoder.Mode;
 import org.cruxset.scoring.lstm.LstmLayer;
 import org.cruxset.scoring.lstm.LstmNetwork;
-import org.cruxset.scoring.onnx.reader.ModelReader;
 import org.cruxset.scoring.onnx.OnnxGruWriter;
 import org.cruxset.scoring.onnx.OnnxModels;
 import org.cruxset.scoring.onnx.OnnxOptions;
 import org.cruxset.scoring.onnx.OnnxOptions.Engine;
+import org.cruxset.scoring.onnx.reader.ModelReader;
 import org.junit.jupiter.api.Test;
 import org.junit.jupiter.api.io.TempDir;
 

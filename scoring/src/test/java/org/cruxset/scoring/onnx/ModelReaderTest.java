@@ -1,6 +1,5 @@
 package org.cruxset.scoring.onnx;
 
-import org.cruxset.scoring.onnx.reader.ModelReader;
 import static org.cruxset.scoring.onnx.OnnxTestSupport.attr;
 import static org.cruxset.scoring.onnx.OnnxTestSupport.bias;
 import static org.cruxset.scoring.onnx.OnnxTestSupport.ints;
@@ -35,6 +34,7 @@ import org.cruxset.scoring.onnx.reader.ModelReader.Refused;
 import org.cruxset.scoring.onnx.OnnxOptions.Engine;
 import org.cruxset.scoring.onnx.OnnxOptions.Layout;
 import org.cruxset.scoring.onnx.OnnxTestSupport.Graph;
+import org.cruxset.scoring.onnx.reader.ModelReader;
 import org.junit.jupiter.api.Test;
 import org.junit.jupiter.api.io.TempDir;
 
@@ -308,5 +308,82 @@ class ModelReaderTest {
             e[i] /= sum;
         }
         return e;
+    }
+
+    /** An LSTM classifier as the writer produces it, with its LSTM node changed by {@code edit}. */
+    static ModelProto lstmModel(java.util.function.Consumer<ai.onnx.proto.OnnxMl.GraphProto.Builder> edit) {
+        Random rng = new Random(3);
+        int n = 5;
+        int h = 4;
+        org.cruxset.scoring.lstm.LstmLayer layer = new org.cruxset.scoring.lstm.LstmLayer(n, h,
+                org.cruxset.scoring.testing.RandomModels.uniform(rng, 4 * h * n, 0.5), org.cruxset.scoring.testing.RandomModels.uniform(rng, 4 * h * h, 0.5),
+                org.cruxset.scoring.testing.RandomModels.uniform(rng, 4 * h, 0.5), org.cruxset.scoring.testing.RandomModels.uniform(rng, 4 * h, 0.5));
+        org.cruxset.scoring.lstm.LstmNetwork net = new org.cruxset.scoring.lstm.LstmNetwork(List.of(layer), 2,
+                org.cruxset.scoring.testing.RandomModels.uniform(rng, 2 * h, 0.5), org.cruxset.scoring.testing.RandomModels.uniform(rng, 2, 0.5));
+        ModelProto m = ModelReader.parse(OnnxGruWriter.write(net, List.of(), List.of("a", "b"),
+                org.cruxset.scoring.decoder.Preprocessing.NONE, java.util.Map.of()));
+        ModelProto.Builder b = m.toBuilder();
+        edit.accept(b.getGraphBuilder());
+        return b.build();
+    }
+
+    static ai.onnx.proto.OnnxMl.NodeProto.Builder lstmNode(ai.onnx.proto.OnnxMl.GraphProto.Builder g) {
+        for (ai.onnx.proto.OnnxMl.NodeProto.Builder node : g.getNodeBuilderList()) {
+            if (node.getOpType().equals("LSTM")) {
+                return node;
+            }
+        }
+        throw new AssertionError("no LSTM node");
+    }
+
+    /** Sets attribute {@code a} on {@code node}, replacing one of the same name. */
+    static void set(ai.onnx.proto.OnnxMl.NodeProto.Builder node, AttributeProto a) {
+        for (int i = 0; i < node.getAttributeCount(); i++) {
+            if (node.getAttribute(i).getName().equals(a.getName())) {
+                node.setAttribute(i, a);
+                return;
+            }
+        }
+        node.addAttribute(a);
+    }
+
+    @Test
+    void readsTheWrittenLstmAndRefusesEachNonCanonicalLstmPrecisely() {
+        Analysis ok = ModelReader.analyse(lstmModel(g -> { }));
+        Canonical c = assertInstanceOf(Canonical.class, ok, ok::toString);
+        assertEquals("canonical LSTM form: 1 LSTM layer, Y_h readout, Gemm, Softmax output, batch-first input, lengths "
+                + "input 'lengths'", c.description());
+        assertEquals("node 1 (LSTM 'lstm0'): LSTM direction 'bidirectional' is not forward",
+                refusal(lstmModel(g -> set(lstmNode(g), attr("direction", "bidirectional")))));
+        assertEquals("node 1 (LSTM 'lstm0'): LSTM input_forget 1 couples the input and forget gates; only uncoupled "
+                + "LSTMs are canonical", refusal(lstmModel(g -> set(lstmNode(g), attr("input_forget", 1L)))));
+        assertEquals("node 1 (LSTM 'lstm0'): LSTM activations [Sigmoid, Tanh, Relu] are not the default [Sigmoid, "
+                + "Tanh, Tanh]", refusal(lstmModel(g -> set(lstmNode(g), strings("activations", "Sigmoid",
+                "Tanh", "Relu")))));
+        assertEquals("node 1 (LSTM 'lstm0'): LSTM clip 2.0 is set; only unclipped LSTMs are canonical",
+                refusal(lstmModel(g -> set(lstmNode(g), attr("clip", 2f)))));
+        // Peepholes: input 7 (P), a constant that is not all zeros.
+        assertEquals("node 1 (LSTM 'lstm0'): LSTM P (peepholes) is not all zeros", refusal(lstmModel(g -> {
+            g.addInitializer(ai.onnx.proto.OnnxMl.TensorProto.newBuilder().setName("peep")
+                    .setDataType(DataType.FLOAT.getNumber()).addDims(1).addDims(12)
+                    .addAllFloatData(java.util.Collections.nCopies(12, 0.5f)));
+            ai.onnx.proto.OnnxMl.NodeProto.Builder node = lstmNode(g);
+            node.addInput("").addInput("").addInput("peep");
+        })));
+        // A readout from the cell state Y_c instead of Y_h.
+        String r = refusal(lstmModel(g -> {
+            ai.onnx.proto.OnnxMl.NodeProto.Builder node = lstmNode(g);
+            String yh = node.getOutput(1);
+            node.addOutput("cell_state");
+            for (ai.onnx.proto.OnnxMl.NodeProto.Builder other : g.getNodeBuilderList()) {
+                for (int i = 0; i < other.getInputCount(); i++) {
+                    if (other.getInput(i).equals(yh)) {
+                        other.setInput(i, "cell_state");
+                    }
+                }
+            }
+        }));
+        assertEquals("node 1 (LSTM 'lstm0'): the readout reads the LSTM cell state Y_c; canonical LSTMs are read out "
+                + "from the hidden state (Y_h or the last step of Y)", r);
     }
 }

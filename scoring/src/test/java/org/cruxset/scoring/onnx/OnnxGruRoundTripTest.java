@@ -1,6 +1,5 @@
 package org.cruxset.scoring.onnx;
 
-import org.cruxset.scoring.onnx.reader.ModelReader;
 import static org.cruxset.scoring.onnx.OnnxTestSupport.maxAbsDiff;
 import static org.cruxset.scoring.onnx.OnnxTestSupport.randomBatch;
 import static org.cruxset.scoring.onnx.OnnxTestSupport.randomNetwork;
@@ -29,6 +28,7 @@ import org.cruxset.scoring.gru.NativeRecurrentDecoder;
 import org.cruxset.scoring.lesion.RegionSet;
 import org.cruxset.scoring.onnx.OnnxOptions.Engine;
 import org.cruxset.scoring.onnx.OnnxOptions.Layout;
+import org.cruxset.scoring.onnx.reader.ModelReader;
 import org.junit.jupiter.api.Test;
 import org.junit.jupiter.api.io.TempDir;
 
