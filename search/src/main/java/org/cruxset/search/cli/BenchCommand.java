@@ -34,9 +34,10 @@ import picocli.CommandLine.Spec;
 /** {@code cruxset bench}: scored lesion sets per second of the native engine and of ONNX Runtime on one workload. */
 @Command(name = "bench", mixinStandardHelpOptions = true,
         description = {
-            "Measure scored lesion sets per second of Cruxset's own GRU engine and of ONNX Runtime on a reference workload: "
-                + "a random GRU classifier written as ONNX and loaded by both engines, random inputs and random zero-fill "
-                + "lesion sets. A scored set is one set decoded on every sample.",
+            "Measure scored lesion sets per second of Cruxset's own engine and of ONNX Runtime on a reference workload: "
+                + "a random GRU (or, with --cell lstm, LSTM) classifier written as ONNX and loaded by both engines, "
+                + "random inputs and random zero-fill lesion sets. A scored set is one set decoded on every sample. "
+                + "--suite search and --suite soak run the strategy and store benchmarks instead.",
             "",
             "ONNX Runtime is measured in two configurations: as Cruxset loads it (one intra-op thread per run, runs spread "
                 + "over --threads callers) and with --threads intra-op threads per run and one caller. The engines "
