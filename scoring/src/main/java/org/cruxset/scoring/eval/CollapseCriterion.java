@@ -74,6 +74,30 @@ public record CollapseCriterion(Kind kind, double value) {
         };
     }
 
+    /**
+     * The largest count of correct samples out of {@code n} that is critical, at chance {@code chance} (the full
+     * part's majority-class rate) and against {@code intact}: every criterion is monotone in the count, so a set is
+     * critical exactly when its count is at most this; −1 when no count is. Agrees with {@link #critical} on every
+     * count.
+     */
+    public int criticalCount(int n, double chance, SetScore intact) {
+        int last = -1;
+        for (int k = 0; k <= n; k++) {
+            if (!critical(countScore(n, k, chance), intact)) {
+                break;
+            }
+            last = k;
+        }
+        return last;
+    }
+
+    /** The parts of a score the criteria read, for {@code correct} of {@code n} correct at {@code chance}. */
+    static SetScore countScore(int n, int correct, double chance) {
+        double[] ci = org.cruxset.scoring.stats.Binomial.wilson(correct, n, org.cruxset.scoring.stats.Binomial.Z95);
+        return new SetScore(n, correct, (double) correct / n, Double.NaN, Double.NaN, new double[0], chance, ci[0],
+                ci[1], org.cruxset.scoring.stats.Binomial.pValueAtLeast(correct, n, chance));
+    }
+
     /** A sentence for reports. */
     public String describe() {
         return switch (kind) {
