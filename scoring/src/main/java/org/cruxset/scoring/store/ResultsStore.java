@@ -266,6 +266,13 @@ public final class ResultsStore implements AutoCloseable {
                 run.spent = r.getDouble(2);
             }
         }
+        try (PreparedStatement ps = c.prepareStatement("SELECT total(cost) FROM run_partials WHERE run_id = ?")) {
+            ps.setLong(1, run.id);
+            try (ResultSet r = ps.executeQuery()) {
+                r.next();
+                run.spent += r.getDouble(1);
+            }
+        }
     }
 
     /**
@@ -697,6 +704,128 @@ public final class ResultsStore implements AutoCloseable {
         return ids;
     }
 
+    /**
+     * The partial evaluations among {@code keys} in the sample order ({@code orderSeed}, {@code chunk}), each with the
+     * prefix {@code run} has paid for (0 when none), in batched queries.
+     */
+    public Map<EvaluationKey, Partial> partials(Run run, Collection<EvaluationKey> keys, long orderSeed, int chunk) {
+        Objects.requireNonNull(run, "run");
+        Map<EvaluationKey, Partial> out = new HashMap<>();
+        if (keys.isEmpty()) {
+            return out;
+        }
+        synchronized (lock) {
+            requireOpen();
+            try {
+                forEachChunk(keys, (group, part) -> {
+                    Map<String, EvaluationKey> byHex = new HashMap<>();
+                    for (EvaluationKey k : part) {
+                        byHex.put(k.setHex(), k);
+                    }
+                    String sql = "SELECT p.id, p.set_hex, p.samples_done, p.predicted, p.true_class_prob,"
+                            + " coalesce(rp.samples_paid, 0) FROM partial_evaluations p LEFT JOIN run_partials rp"
+                            + " ON rp.partial_id = p.id AND rp.run_id = ? WHERE " + KEY_WHERE.replace("model_hash",
+                            "p.model_hash").replace("data_hash", "p.data_hash").replace("preprocessing",
+                            "p.preprocessing").replace("lesion_mode", "p.lesion_mode").replace("mode_seed",
+                            "p.mode_seed") + " AND p.order_seed = ? AND p.chunk = ? AND p.set_hex IN ("
+                            + placeholders(part.size()) + ")";
+                    try (PreparedStatement ps = connection.prepareStatement(sql)) {
+                        ps.setLong(1, run.id);
+                        int i = bindGroup(ps, group, 1);
+                        ps.setLong(++i, orderSeed);
+                        ps.setInt(++i, chunk);
+                        for (EvaluationKey k : part) {
+                            ps.setString(++i, k.setHex());
+                        }
+                        try (ResultSet r = ps.executeQuery()) {
+                            while (r.next()) {
+                                EvaluationKey k = byHex.get(r.getString(2));
+                                Outcomes o = decodeOutcomes(file, r.getLong(1), r.getInt(3), r.getBytes(4),
+                                        r.getBytes(5));
+                                out.put(k, new Partial(k, orderSeed, chunk, o, r.getInt(6)));
+                            }
+                        }
+                    }
+                });
+            } catch (SQLException e) {
+                throw new StoreException(file, "cannot look up " + keys.size() + " partial evaluations: "
+                        + e.getMessage(), e);
+            }
+        }
+        return out;
+    }
+
+    /**
+     * Stores each update's outcomes (growing an existing partial evaluation, never shrinking it) and charges
+     * {@code run} its cost for paying up to {@code samplesPaid} samples, all in one transaction: a killed run keeps
+     * every committed chunk and pays for none twice.
+     */
+    public void recordPartials(Run run, List<PartialUpdate> updates) {
+        Objects.requireNonNull(run, "run");
+        if (run.store() != this) {
+            throw new IllegalArgumentException("run " + run.id + " belongs to another results store");
+        }
+        if (updates.isEmpty()) {
+            return;
+        }
+        synchronized (lock) {
+            inTransaction("record " + updates.size() + " partial evaluations for run " + run.id, c -> {
+                String at = now();
+                double cost = 0;
+                try (PreparedStatement ins = c.prepareStatement("INSERT INTO partial_evaluations (model_hash,"
+                        + " data_hash, preprocessing, lesion_mode, mode_seed, set_hex, universe, order_seed, chunk,"
+                        + " samples_done, predicted, true_class_prob, created_by_run, updated_at) VALUES (?, ?, ?, ?,"
+                        + " ?, ?, ?, ?, ?, ?, ?, ?, ?, ?) ON CONFLICT (model_hash, data_hash, preprocessing,"
+                        + " lesion_mode, mode_seed, set_hex, order_seed, chunk) DO UPDATE SET samples_done ="
+                        + " excluded.samples_done, predicted = excluded.predicted, true_class_prob ="
+                        + " excluded.true_class_prob, updated_at = excluded.updated_at"
+                        + " WHERE excluded.samples_done > partial_evaluations.samples_done");
+                     PreparedStatement id = c.prepareStatement("SELECT id FROM partial_evaluations WHERE "
+                        + KEY_WHERE + " AND set_hex = ? AND order_seed = ? AND chunk = ?");
+                     PreparedStatement pay = c.prepareStatement("INSERT INTO run_partials (run_id, partial_id,"
+                        + " samples_paid, cost) VALUES (?, ?, ?, ?) ON CONFLICT (run_id, partial_id) DO UPDATE SET"
+                        + " samples_paid = excluded.samples_paid, cost = run_partials.cost + excluded.cost"
+                        + " WHERE excluded.samples_paid > run_partials.samples_paid")) {
+                    for (PartialUpdate u : updates) {
+                        EvaluationKey k = u.key();
+                        ins.setString(1, k.modelHash());
+                        ins.setString(2, k.dataHash());
+                        ins.setString(3, k.preprocessing());
+                        ins.setString(4, k.mode().label());
+                        ins.setLong(5, k.modeSeed());
+                        ins.setString(6, k.setHex());
+                        ins.setInt(7, k.set().universe());
+                        ins.setLong(8, u.orderSeed());
+                        ins.setInt(9, u.chunk());
+                        ins.setInt(10, u.outcomes().size());
+                        ins.setBytes(11, encodePredicted(u.outcomes()));
+                        ins.setBytes(12, encodeProbabilities(u.outcomes()));
+                        ins.setLong(13, run.id);
+                        ins.setString(14, at);
+                        ins.executeUpdate();
+                        int i = bindGroup(id, k);
+                        id.setString(++i, k.setHex());
+                        id.setLong(++i, u.orderSeed());
+                        id.setInt(++i, u.chunk());
+                        long pid;
+                        try (ResultSet r = id.executeQuery()) {
+                            r.next();
+                            pid = r.getLong(1);
+                        }
+                        pay.setLong(1, run.id);
+                        pay.setLong(2, pid);
+                        pay.setInt(3, u.samplesPaid());
+                        pay.setDouble(4, u.cost());
+                        if (pay.executeUpdate() == 1) {
+                            cost += u.cost();
+                        }
+                    }
+                }
+                return cost;
+            }, cost -> run.spent += cost);
+        }
+    }
+
     /** Marks {@code run} finished now. */
     public void finish(Run run) {
         Objects.requireNonNull(run, "run");
@@ -1106,6 +1235,37 @@ public final class ResultsStore implements AutoCloseable {
         /** Whether the run it was looked up for has paid for it. */
         public boolean paid() {
             return !Double.isNaN(spentWhenPaid);
+        }
+    }
+
+    /**
+     * A set scored on the first {@code outcomes.size()} samples of a race order ({@code orderSeed}, {@code chunk}):
+     * their outcomes in that order, and the prefix the run it was looked up for has paid for.
+     */
+    public record Partial(EvaluationKey key, long orderSeed, int chunk, Outcomes outcomes, int samplesPaid) {
+        public Partial {
+            Objects.requireNonNull(key, "key");
+            Objects.requireNonNull(outcomes, "outcomes");
+        }
+    }
+
+    /**
+     * A partial evaluation to store: the outcomes of the first {@code outcomes.size()} samples of the order, the
+     * prefix the run has now paid for and what that payment costs (the samples newly paid, as a fraction of the part).
+     */
+    public record PartialUpdate(EvaluationKey key, long orderSeed, int chunk, Outcomes outcomes, int samplesPaid,
+                                double cost) {
+        public PartialUpdate {
+            Objects.requireNonNull(key, "key");
+            Objects.requireNonNull(outcomes, "outcomes");
+            if (chunk < 1 || outcomes.size() < 1 || samplesPaid < 1 || samplesPaid > outcomes.size()) {
+                throw new IllegalArgumentException("a partial update needs chunk >= 1 and 1 <= samplesPaid <= "
+                        + "samples done, found chunk " + chunk + ", " + samplesPaid + " paid of "
+                        + outcomes.size());
+            }
+            if (!(cost >= 0) || Double.isInfinite(cost)) {
+                throw new IllegalArgumentException("cost must be finite and at least 0, found " + cost);
+            }
         }
     }
 

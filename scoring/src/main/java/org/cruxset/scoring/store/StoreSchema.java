@@ -184,8 +184,42 @@ final class StoreSchema {
               PRIMARY KEY (run_id, rank)
             ) WITHOUT ROWID""");
 
+    /**
+     * Version 4: partial evaluations of raced sets (the outcomes of the first samples, in a seeded order of the
+     * scored samples, scored in chunks) and what each run paid for them, so that a raced set is completed later
+     * without scoring a sample twice and a run may pay for one set in several parts.
+     */
+    private static final List<String> V4 = List.of(
+            """
+            CREATE TABLE partial_evaluations (
+              id              INTEGER PRIMARY KEY,
+              model_hash      TEXT    NOT NULL,
+              data_hash       TEXT    NOT NULL,
+              preprocessing   TEXT    NOT NULL,
+              lesion_mode     TEXT    NOT NULL,
+              mode_seed       INTEGER NOT NULL,
+              set_hex         TEXT    NOT NULL,
+              universe        INTEGER NOT NULL,
+              order_seed      INTEGER NOT NULL,
+              chunk           INTEGER NOT NULL CHECK (chunk >= 1),
+              samples_done    INTEGER NOT NULL CHECK (samples_done >= 1),
+              predicted       BLOB    NOT NULL,
+              true_class_prob BLOB    NOT NULL,
+              created_by_run  INTEGER NOT NULL REFERENCES runs (id),
+              updated_at      TEXT    NOT NULL,
+              UNIQUE (model_hash, data_hash, preprocessing, lesion_mode, mode_seed, set_hex, order_seed, chunk)
+            )""",
+            """
+            CREATE TABLE run_partials (
+              run_id       INTEGER NOT NULL REFERENCES runs (id),
+              partial_id   INTEGER NOT NULL REFERENCES partial_evaluations (id),
+              samples_paid INTEGER NOT NULL CHECK (samples_paid >= 1),
+              cost         REAL    NOT NULL CHECK (cost >= 0),
+              PRIMARY KEY (run_id, partial_id)
+            ) WITHOUT ROWID""");
+
     /** Step v − 1 brings a store to version v. */
-    static final List<List<String>> STEPS = List.of(V1, V2, V3);
+    static final List<List<String>> STEPS = List.of(V1, V2, V3, V4);
 
     /** The version this code writes and reads. */
     static final int VERSION = STEPS.size();
@@ -193,7 +227,7 @@ final class StoreSchema {
     /** The tables of the current version, for messages about files that are not stores. */
     static final String TABLES = "schema_version, runs, datasets, dataset_samples, evaluations, run_evaluations, "
             + "part_splits, part_subjects, searches, search_trace, search_front, certificates, certificate_subsets, "
-            + "search_results";
+            + "search_results, partial_evaluations, run_partials";
 
     private StoreSchema() {
     }

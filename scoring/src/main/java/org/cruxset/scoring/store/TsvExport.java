@@ -39,7 +39,8 @@ public final class TsvExport {
     /** The files written, in writing order. */
     public static final List<String> FILES = List.of("runs.tsv", "evaluations.tsv", "run_evaluations.tsv",
             "outcomes.tsv", "datasets.tsv", "part_splits.tsv", "part_subjects.tsv", "searches.tsv", "search_trace.tsv",
-            "search_front.tsv", "search_results.tsv", "certificates.tsv", "certificate_subsets.tsv");
+            "search_front.tsv", "search_results.tsv", "certificates.tsv", "certificate_subsets.tsv",
+            "partial_evaluations.tsv", "run_partials.tsv");
 
     /** The search tables of schema version 3, each exported whole, ordered by these columns. */
     private static final List<String[]> SEARCH_TABLES = List.of(
@@ -75,6 +76,9 @@ public final class TsvExport {
                 for (String[] t : SEARCH_TABLES) {
                     writeWhole(c, version >= 3, t[0], t[1], outDir.resolve(t[0] + ".tsv"));
                 }
+                // Racing (version 4): partial outcomes are written as space-separated values in race order.
+                writeWhole(c, version >= 4, "partial_evaluations", "id", outDir.resolve("partial_evaluations.tsv"));
+                writeWhole(c, version >= 4, "run_partials", "run_id, partial_id", outDir.resolve("run_partials.tsv"));
             } finally {
                 s.execute("ROLLBACK");
             }
@@ -117,7 +121,8 @@ public final class TsvExport {
                      + " data_hash, preprocessing, lesion_mode, mode_seed, seed,"
                      + " (SELECT count(*) FROM run_evaluations re WHERE re.run_id = runs.id),"
                      + " (SELECT total(cost) FROM (SELECT cost FROM run_evaluations re WHERE re.run_id = runs.id"
-                     + " ORDER BY position)),"
+                     + " ORDER BY position))" + (version >= 4
+                             ? " + (SELECT total(cost) FROM run_partials rp WHERE rp.run_id = runs.id)," : ",")
                      + " cruxset_version, jvm, os, arch, config, " + (version >= 2 ? "split_id" : "NULL")
                      + " FROM runs ORDER BY id");
              Table t = new Table(out, "id", "run_key", "kind", "status", "started_at", "ended_at", "model_hash",
@@ -164,6 +169,7 @@ public final class TsvExport {
                         for (int i = 0; i < columns.size(); i++) {
                             switch (types.get(i)) {
                                 case "REAL" -> t.real(ResultsStore.getReal(r, i + 1));
+                                case "BLOB" -> t.text(blobValues(r.getBytes(i + 1), columns.get(i).equals("predicted")));
                                 default -> t.text(r.getString(i + 1));
                             }
                         }
@@ -173,6 +179,26 @@ public final class TsvExport {
             }
             t.commit();
         }
+    }
+
+    /**
+     * An outcome BLOB as space-separated values: little-endian int32 class indices ({@code integers}), else
+     * little-endian float32 probabilities written as the exact double value of each float.
+     */
+    private static String blobValues(byte[] blob, boolean integers) {
+        if (blob == null) {
+            return null;
+        }
+        java.nio.ByteBuffer b = java.nio.ByteBuffer.wrap(blob).order(java.nio.ByteOrder.LITTLE_ENDIAN);
+        StringBuilder sb = new StringBuilder();
+        while (b.remaining() >= 4) {
+            if (sb.length() > 0) {
+                sb.append(' ');
+            }
+            int bits = b.getInt();
+            sb.append(integers ? Integer.toString(bits) : Double.toString(Float.intBitsToFloat(bits)));
+        }
+        return sb.toString();
     }
 
     private static void writeSplits(Connection c, int version, Path splits, Path subjects) throws SQLException {
