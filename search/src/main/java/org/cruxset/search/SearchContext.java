@@ -96,18 +96,7 @@ public final class SearchContext {
      */
     public int maxCorrectWhenCritical() {
         if (maxCorrect == Integer.MIN_VALUE) {
-            int n = intact.n();
-            int best = -1;
-            for (int k = 0; k <= n; k++) {
-                double[] w = org.cruxset.scoring.stats.Binomial.wilson(k, n, org.cruxset.scoring.stats.Binomial.Z95);
-                SetScore s = new SetScore(n, k, (double) k / n, (double) k / n, (double) k / n, new double[0],
-                        intact.chance(), w[0], w[1],
-                        org.cruxset.scoring.stats.Binomial.pValueAtLeast(k, n, intact.chance()));
-                if (criterion.critical(s, intact)) {
-                    best = k;
-                }
-            }
-            maxCorrect = best;
+            maxCorrect = criterion.criticalCount(intact.n(), intact.chance(), intact);
         }
         return maxCorrect;
     }
