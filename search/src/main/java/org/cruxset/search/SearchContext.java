@@ -43,6 +43,9 @@ public final class SearchContext {
     private final Listener listener;
     private final Map<RegionSet, Long> certified = new HashMap<>();
     private final List<SearchRecords.TraceEntry> pendingTrace = new ArrayList<>();
+    private LesionScorer.Racing racing;
+    private long decisions;
+    private long racedDecisions;
     private double charged;
     private int maxCorrect = Integer.MIN_VALUE;
     private double chargedAtBest = Double.NaN;
@@ -211,6 +214,68 @@ public final class SearchContext {
                     : "the budget of " + (long) scorer.budget().limit() + " scored sets is spent");
         }
         return scored;
+    }
+
+    /**
+     * Races {@code sets} (see {@link LesionScorer#raceWithinBudget}) with the settings given to {@link #race}, or
+     * scores them whole when racing is off: is each set critical on the whole search part? Fully scored sets go to the
+     * front and the trace like {@link #score(List)}'s; raced verdicts do not (every reported set is fully scored).
+     * Stops like {@link #score(List)} when the time or the budget is spent.
+     */
+    public List<LesionScorer.Raced> decideCritical(List<RegionSet> sets) {
+        if (racing == null) {
+            List<LesionScorer.Raced> out = new ArrayList<>(sets.size());
+            for (LesionScorer.Scored s : score(sets)) {
+                out.add(new LesionScorer.Raced(s.set(), critical(s.score()), s.score().n(), s.score().correct(), s));
+            }
+            decisions += out.size();
+            return out;
+        }
+        batchedSets += sets.size();
+        largestBatch = Math.max(largestBatch, sets.size());
+        if (timeUp()) {
+            throw new StopSearch(StopSearch.Reason.TIME, "the time limit was reached after "
+                    + Math.round(elapsedSeconds()) + " s of search");
+        }
+        List<LesionScorer.Raced> raced = scorer.raceWithinBudget(sets, maxCorrectWhenCritical(), racing, reserve);
+        batches++;
+        List<LesionScorer.Scored> exact = new ArrayList<>();
+        for (LesionScorer.Raced r : raced) {
+            decisions++;
+            if (r.exact()) {
+                exact.add(r.full());
+            } else {
+                racedDecisions++;
+            }
+        }
+        charged = Math.max(charged, scorer.budget().spent());
+        account(exact);
+        listener.scored(this);
+        if (raced.size() < sets.size()) {
+            throw new StopSearch(StopSearch.Reason.BUDGET, "the budget of " + (long) scorer.budget().limit()
+                    + " scored sets is spent");
+        }
+        return raced;
+    }
+
+    /** Races "critical or not" decisions with {@code settings} from now on (null: score every set whole). */
+    public void race(LesionScorer.Racing settings) {
+        this.racing = settings;
+    }
+
+    /** The racing settings, or null when sets are scored whole. */
+    public LesionScorer.Racing racing() {
+        return racing;
+    }
+
+    /** Critical-or-not decisions made, and how many of them were settled by a race before every sample was scored. */
+    public long decisions() {
+        return decisions;
+    }
+
+    /** See {@link #decisions()}. */
+    public long racedDecisions() {
+        return racedDecisions;
     }
 
     /** Scores one set (see {@link #score(List)}). */

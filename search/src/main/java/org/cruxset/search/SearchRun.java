@@ -23,9 +23,15 @@ public final class SearchRun {
      * many best sets to certify, and the share of a finite budget kept back from the strategy for the certificates.
      */
     public record Settings(double timeLimitSeconds, Instant deadline, long seed, boolean prune, int certify,
-                           double reserve) {
+                           double reserve, boolean race) {
         /** The share of the budget kept for certificates unless told otherwise. */
         public static final double DEFAULT_RESERVE = 0.05;
+
+        /** Settings without racing: every set is scored whole. */
+        public Settings(double timeLimitSeconds, Instant deadline, long seed, boolean prune, int certify,
+                        double reserve) {
+            this(timeLimitSeconds, deadline, seed, prune, certify, reserve, false);
+        }
 
         public Settings {
             if (!(reserve >= 0 && reserve < 1)) {
@@ -88,6 +94,9 @@ public final class SearchRun {
         }
         SearchContext ctx = new SearchContext(session, settings.seed(), records, elapsedBefore, timeLimit, deadline,
                 listener);
+        if (settings.race()) {
+            ctx.race(LesionScorer.Racing.defaults(settings.seed(), session.search().inputs().size()));
+        }
         boolean certify = settings.prune() && !(strategy instanceof PruneStrategy);
         double budget = session.scorer().budget().limit();
         if (certify && Double.isFinite(budget)) {

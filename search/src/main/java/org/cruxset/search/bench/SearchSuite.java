@@ -24,7 +24,8 @@ import org.cruxset.search.strategy.RankedStrategy;
  * The search benchmark: strategies run on {@link PlantedProblem} instances (one per seed, each run in a fresh store,
  * through the real scorer, store and default criterion) at given budgets; per strategy and budget it reports the
  * success rate (the proven minimum size reached), the median best critical size, the median sets charged to reach it,
- * and how often the result contains a named trap.
+ * how often the result contains a named trap, and the median budget spent in all (sample-evaluations = sets × the
+ * search part's samples) and wall time. A strategy name ending in {@code ~race} runs it with racing.
  */
 public final class SearchSuite {
     /** The strategies of the suite; later strategies join this list. */
@@ -33,7 +34,8 @@ public final class SearchSuite {
 
     /** One run: its strategy, seed, budget, best critical size (−1: none), sets to reach it, trapped, the proof. */
     public record Run(String strategy, long seed, long budget, int bestSize, double chargedToBest, boolean trapped,
-                      PlantedProblem.Proof proof, int minimum) {
+                      PlantedProblem.Proof proof, int minimum, double charged, long sampleEvaluations,
+                      double seconds, long decisions, long racedDecisions) {
         /** Whether the run reached the proven minimum size. */
         public boolean success() {
             return bestSize == minimum;
@@ -42,7 +44,7 @@ public final class SearchSuite {
 
     /** The summary of one strategy at one budget. */
     public record Row(String strategy, long budget, int runs, int successes, double medianBest, double medianSetsToBest,
-                      int trapped) {
+                      int trapped, double medianSampleEvaluations, double medianSeconds, double racedShare) {
     }
 
     private SearchSuite() {
@@ -50,7 +52,7 @@ public final class SearchSuite {
 
     /** The strategy behind a suite name, and whether its best sets are pruned afterwards. */
     static Strategy strategy(String name, SearchConfig settings) {
-        return switch (name) {
+        return switch (name.replace("~race", "")) {
             case "random" -> new RandomStrategy();
             case "grow", "grow+prune" -> new GrowStrategy(false, false);
             case "grow-lazy+prune" -> new GrowStrategy(false, true);
@@ -72,11 +74,20 @@ public final class SearchSuite {
                 Parts.DEFAULT_SEED, Parts.DEFAULT_CONFIRM);
         try (Decoder decoder = p.decoder(); ScoringSession session = ScoringSession.open(decoder, p.cohort(), settings)) {
             PlantedProblem.Proof proof = p.proof(PlantedProblem.ids(session.inputs().batch()), criterion);
-            boolean prune = strategy.endsWith("+prune") || strategy.equals("random") || strategy.equals("genetic")
-                    || strategy.equals("local");
+            String base = strategy.replace("~race", "");
+            boolean race = !base.equals(strategy);
+            boolean prune = base.endsWith("+prune") || base.equals("random") || base.equals("genetic")
+                    || base.equals("local");
+            long t0 = System.nanoTime();
+            long[] decisions = new long[2];
             SearchRun.Result r = SearchRun.run(session, strategy(strategy, strategies),
                     new SearchRun.Settings(Double.POSITIVE_INFINITY, null, seed, prune, 5,
-                            SearchRun.Settings.DEFAULT_RESERVE), null);
+                            SearchRun.Settings.DEFAULT_RESERVE, race), ctx -> {
+                        decisions[0] = ctx.decisions();
+                        decisions[1] = ctx.racedDecisions();
+                    });
+            double seconds = (System.nanoTime() - t0) / 1e9;
+            int n = session.search().inputs().size();
             RegionSet trapRegions = p.trapRegions();
             boolean trapped = false;
             for (SearchRun.Reported x : r.reported()) {
@@ -86,7 +97,8 @@ public final class SearchSuite {
                 }
                 trapped |= all;
             }
-            return new Run(strategy, seed, budget, r.bestSize(), r.chargedAtBest(), trapped, proof, p.minimumSize());
+            return new Run(strategy, seed, budget, r.bestSize(), r.chargedAtBest(), trapped, proof, p.minimumSize(),
+                    r.charged(), Math.round(r.charged() * n), seconds, decisions[0], decisions[1]);
         }
     }
 
@@ -136,7 +148,12 @@ public final class SearchSuite {
             trapped += r.trapped() ? 1 : 0;
         }
         double[] tb = toBest.stream().mapToDouble(Double::doubleValue).toArray();
-        return new Row(strategy, budget, runs.size(), ok, median(best), tb.length == 0 ? Double.NaN : median(tb), trapped);
+        double[] evaluations = runs.stream().mapToDouble(Run::sampleEvaluations).toArray();
+        double[] seconds = runs.stream().mapToDouble(Run::seconds).toArray();
+        long decisions = runs.stream().mapToLong(Run::decisions).sum();
+        long raced = runs.stream().mapToLong(Run::racedDecisions).sum();
+        return new Row(strategy, budget, runs.size(), ok, median(best), tb.length == 0 ? Double.NaN : median(tb), trapped,
+                median(evaluations), median(seconds), decisions == 0 ? 0 : (double) raced / decisions);
     }
 
     /** The median (mean of the middle two for an even count); infinities sort last. */

@@ -109,7 +109,8 @@ public final class BenchCommand implements Callable<Integer> {
     List<Long> budgets;
 
     @Option(names = "--strategies", paramLabel = "S", split = ",", defaultValue = "random,grow,grow+prune,ranked+prune,genetic,local",
-            description = "search suite: strategies, comma-separated. Default: ${DEFAULT-VALUE}.")
+            description = "search suite: strategies, comma-separated; a name ending in ~race (e.g. grow+prune~race) runs "
+                    + "it with racing. Default: ${DEFAULT-VALUE}.")
     List<String> strategies;
 
     @Option(names = "--config", paramLabel = "FILE",
@@ -155,13 +156,31 @@ public final class BenchCommand implements Callable<Integer> {
                 budgets, seedList, dir, out);
         List<String[]> table = new ArrayList<>();
         table.add(new String[] {"strategy", "budget", "runs", "success rate", "median best size", "median sets to best",
-            "trapped"});
+            "trapped", "median sample-evaluations", "median seconds", "raced decisions"});
         for (org.cruxset.search.bench.SearchSuite.Row r : rows) {
             table.add(new String[] {r.strategy(), Long.toString(r.budget()), Integer.toString(r.runs()),
                 String.format(Locale.ROOT, "%d/%d", r.successes(), r.runs()),
                 Double.isInfinite(r.medianBest()) ? "none" : String.format(Locale.ROOT, "%.1f", r.medianBest()),
                 Double.isNaN(r.medianSetsToBest()) ? "-" : String.format(Locale.ROOT, "%.0f", r.medianSetsToBest()),
-                Integer.toString(r.trapped())});
+                Integer.toString(r.trapped()), String.format(Locale.ROOT, "%.0f", r.medianSampleEvaluations()),
+                String.format(Locale.ROOT, "%.1f", r.medianSeconds()),
+                r.strategy().endsWith("~race") ? String.format(Locale.ROOT, "%.0f%%", 100 * r.racedShare()) : "-"});
+        }
+        // Racing against the same strategy without it, at the same budget.
+        for (org.cruxset.search.bench.SearchSuite.Row raced : rows) {
+            if (!raced.strategy().endsWith("~race")) {
+                continue;
+            }
+            for (org.cruxset.search.bench.SearchSuite.Row plain : rows) {
+                if (plain.strategy().equals(raced.strategy().replace("~race", "")) && plain.budget() == raced.budget()) {
+                    out.printf(Locale.ROOT, "%s at budget %d: median best size %.1f vs %.1f without racing; "
+                                    + "sample-evaluations %.0f vs %.0f (ratio %.2f); wall time %.1f s vs %.1f s "
+                                    + "(ratio %.2f)%n", raced.strategy(), raced.budget(), raced.medianBest(),
+                            plain.medianBest(), raced.medianSampleEvaluations(), plain.medianSampleEvaluations(),
+                            raced.medianSampleEvaluations() / plain.medianSampleEvaluations(),
+                            raced.medianSeconds(), plain.medianSeconds(), raced.medianSeconds() / plain.medianSeconds());
+                }
+            }
         }
         out.println();
         Table.print(out, table);

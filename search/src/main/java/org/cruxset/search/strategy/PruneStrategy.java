@@ -50,7 +50,12 @@ public final class PruneStrategy implements Strategy {
         prune(ctx, from);
     }
 
-    /** Prunes the critical set {@code set} to an irreducible one, certifies it, and returns it. */
+    /**
+     * Prunes the critical set {@code set} to an irreducible one, certifies it, and returns it. Each step decides which
+     * one-region-smaller subsets are critical ({@link SearchContext#decideCritical}: raced when racing is on), scores
+     * those whole and moves to the best; when none is, every subset is scored whole for the certificate (a raced
+     * verdict is never a certificate) and the step is checked again on the whole scores.
+     */
     public static RegionSet prune(SearchContext ctx, RegionSet set) {
         RegionSet current = set;
         while (true) {
@@ -59,13 +64,15 @@ public final class PruneStrategy implements Strategy {
             for (int p : members) {
                 subsets.add(current.without(p));
             }
-            List<LesionScorer.Scored> scored = ctx.score(subsets);
-            LesionScorer.Scored best = null;
-            for (LesionScorer.Scored s : scored) {
-                if (!s.set().isEmpty() && ctx.critical(s.score())
-                        && (best == null || Objective.BETTER.compare(s.score(), best.score()) < 0)) {
-                    best = s;
+            List<RegionSet> likely = new ArrayList<>();
+            for (LesionScorer.Raced r : ctx.decideCritical(subsets)) {
+                if (r.atMost() && !r.set().isEmpty()) {
+                    likely.add(r.set());
                 }
+            }
+            LesionScorer.Scored best = likely.isEmpty() ? null : bestCritical(ctx, ctx.score(likely));
+            if (best == null) {
+                best = bestCritical(ctx, ctx.score(subsets));
             }
             if (best == null) {
                 ctx.certifyIrreducible(current, subsets);
@@ -73,6 +80,18 @@ public final class PruneStrategy implements Strategy {
             }
             current = best.set();
         }
+    }
+
+    /** The critical set among {@code scored} with the lowest accuracy, then mean true-class probability; or null. */
+    private static LesionScorer.Scored bestCritical(SearchContext ctx, List<LesionScorer.Scored> scored) {
+        LesionScorer.Scored best = null;
+        for (LesionScorer.Scored s : scored) {
+            if (!s.set().isEmpty() && ctx.critical(s.score())
+                    && (best == null || Objective.BETTER.compare(s.score(), best.score()) < 0)) {
+                best = s;
+            }
+        }
+        return best;
     }
 
     /**
