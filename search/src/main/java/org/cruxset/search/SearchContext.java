@@ -226,7 +226,7 @@ public final class SearchContext {
         if (racing == null) {
             List<LesionScorer.Raced> out = new ArrayList<>(sets.size());
             for (LesionScorer.Scored s : score(sets)) {
-                out.add(new LesionScorer.Raced(s.set(), critical(s.score()), s.score().n(), s.score().correct(), s));
+                out.add(LesionScorer.Raced.of(s, critical(s.score())));
             }
             decisions += out.size();
             return out;
@@ -247,8 +247,10 @@ public final class SearchContext {
             } else {
                 racedDecisions++;
             }
+            if (!Double.isNaN(r.charged())) {
+                charged = Math.max(charged, r.charged());
+            }
         }
-        charged = Math.max(charged, scorer.budget().spent());
         account(exact);
         listener.scored(this);
         if (raced.size() < sets.size()) {
@@ -256,6 +258,46 @@ public final class SearchContext {
                     + " scored sets is spent");
         }
         return raced;
+    }
+
+    /**
+     * Brings each of {@code sets} to look {@code look} of the racing order and returns their progress there (see
+     * {@link LesionScorer#advanceWithinBudget}); sets completed on the way go to the front and the trace. Racing must
+     * be on. Stops like {@link #score(List)} when the time or the budget is spent.
+     */
+    public List<LesionScorer.Progress> advance(List<RegionSet> sets, int look) {
+        if (racing == null) {
+            throw new IllegalStateException("advance needs racing on");
+        }
+        batchedSets += sets.size();
+        largestBatch = Math.max(largestBatch, sets.size());
+        if (timeUp()) {
+            throw new StopSearch(StopSearch.Reason.TIME, "the time limit was reached after "
+                    + Math.round(elapsedSeconds()) + " s of search");
+        }
+        List<LesionScorer.Progress> progress = scorer.advanceWithinBudget(sets, look, racing, reserve);
+        batches++;
+        List<LesionScorer.Scored> exact = new ArrayList<>();
+        for (LesionScorer.Progress p : progress) {
+            if (p.complete()) {
+                exact.add(p.full());
+            }
+            if (!Double.isNaN(p.charged())) {
+                charged = Math.max(charged, p.charged());
+            }
+        }
+        account(exact);
+        listener.scored(this);
+        if (progress.size() < sets.size()) {
+            throw new StopSearch(StopSearch.Reason.BUDGET, "the budget of " + (long) scorer.budget().limit()
+                    + " scored sets is spent");
+        }
+        return progress;
+    }
+
+    /** The number of looks of the racing order (racing must be on). */
+    public int raceLooks() {
+        return scorer.raceLooks(racing);
     }
 
     /** Races "critical or not" decisions with {@code settings} from now on (null: score every set whole). */

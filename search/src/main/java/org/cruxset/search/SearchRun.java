@@ -55,12 +55,13 @@ public final class SearchRun {
      * The outcome: why it stopped ({@code finished}, {@code budget} or {@code time}) and the message, the best
      * critical size (−1 when none), the reported sets, the core (in every reported set) and the interchangeable rest,
      * the front, the sets charged (in all, and when the best critical size was first reached), whether the run was
-     * resumed, the search time, and this session's batches (count, sets asked for, largest).
+     * resumed, the search time, this session's batches (count, sets asked for, largest), and its critical-or-not
+     * decisions and how many of them a race settled before every sample was scored.
      */
     public record Result(String status, String stopMessage, int bestSize, List<Reported> reported, RegionSet core,
                          RegionSet interchangeable, List<Front.Entry> front, double charged, double chargedAtBest,
                          int notKept, boolean resumed, double elapsedSeconds, double elapsedBeforeSeconds,
-                         int batches, long batchedSets, int largestBatch) {
+                         int batches, long batchedSets, int largestBatch, long decisions, long racedDecisions) {
         public Result {
             reported = List.copyOf(reported);
             front = List.copyOf(front);
@@ -177,6 +178,7 @@ public final class SearchRun {
         return new Result(status, message, front.bestCriticalSize(), reported,
                 core == null ? RegionSet.empty(ctx.regions()) : core, interchangeable, front.entries(), ctx.charged(),
                 ctx.chargedAtBest(), front.notKept(), session.run() != null && session.run().resumed(), ctx.elapsedSeconds(),
-                ctx.elapsedBeforeSeconds(), ctx.batches(), ctx.batchedSets(), ctx.largestBatch());
+                ctx.elapsedBeforeSeconds(), ctx.batches(), ctx.batchedSets(), ctx.largestBatch(), ctx.decisions(),
+                ctx.racedDecisions());
     }
 }

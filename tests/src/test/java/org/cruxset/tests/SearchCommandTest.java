@@ -137,7 +137,9 @@ class SearchCommandTest {
         Path killed = dir.resolve("killed");
         Path db = killed.resolve("results.sqlite");
         String[] more = {"--strategy", strategy, "--budget", "2500", "--seed", "3"};
-        Killed.runAndKill(dir, args(killed, more), db, "SELECT COUNT(*) FROM run_evaluations", 160);
+        // Raced sets are paid in run_partials until they are scored whole: count both.
+        Killed.runAndKill(dir, args(killed, more), db,
+                "SELECT (SELECT COUNT(*) FROM run_evaluations) + (SELECT COUNT(*) FROM run_partials)", 160);
 
         Cli.Run resumed = Cli.run(args(killed, more).toArray(String[]::new)).requireSuccess();
         assertTrue(resumed.out().contains("Resuming an earlier run of this command"), resumed.out());
@@ -147,6 +149,13 @@ class SearchCommandTest {
         assertEquals(trace(cleanDb), trace(db), "the same anytime trace");
         assertEquals(Killed.count(cleanDb, "SELECT total(cost) FROM run_evaluations"),
                 Killed.count(db, "SELECT total(cost) FROM run_evaluations"), "the same sets charged");
+        // No sample scored twice for the same set: the raced samples paid (and their cost) match the clean run's.
+        assertEquals(Killed.count(cleanDb, "SELECT total(samples_paid) FROM run_partials"),
+                Killed.count(db, "SELECT total(samples_paid) FROM run_partials"), "the same raced samples paid");
+        assertEquals(Killed.count(cleanDb, "SELECT CAST(round(total(cost) * 1e6) AS INTEGER) FROM run_partials"),
+                Killed.count(db, "SELECT CAST(round(total(cost) * 1e6) AS INTEGER) FROM run_partials"), "the same raced charges");
+        assertEquals(Killed.count(cleanDb, "SELECT total(samples_done) FROM partial_evaluations"),
+                Killed.count(db, "SELECT total(samples_done) FROM partial_evaluations"), "the same samples scored");
         assertEquals(Killed.count(db, "SELECT COUNT(*) FROM evaluations"), Killed.count(db, "SELECT COUNT(*) FROM run_evaluations"),
                 "each evaluation linked to the run once");
         assertEquals(1, Killed.count(db, "SELECT COUNT(*) FROM runs"));

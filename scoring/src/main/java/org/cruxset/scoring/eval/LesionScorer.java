@@ -264,7 +264,7 @@ public final class LesionScorer {
                     charged = budget.spent();
                     stored++;
                 } else {
-                    charged = st.spentWhenPaid();
+                    charged = snap(st.spentWhenPaid());
                     replayed++;
                 }
                 Scored sc = new Scored(e.getValue(), st.score(), st.outcomes(), src, charged);
@@ -322,7 +322,7 @@ public final class LesionScorer {
             Outcomes o = Outcomes.of(probs[i], labels);
             SetScore sc = SetScore.of(o, labels, inputs.classLabels().size());
             budget.charge(costPerSet);
-            Scored scored = new Scored(s, sc, o, Source.DECODED, budget.spent());
+            Scored scored = new Scored(s, sc, o, Source.DECODED, snap(budget.spent()));
             memo.put(s, scored);
             result.put(s, scored);
             decoded++;
@@ -359,13 +359,22 @@ public final class LesionScorer {
 
     /**
      * A raced set: whether its full-part count of correct samples is at most the threshold ({@code atMost}), the
-     * samples this run has paid for and how many of them were correct, and the full score when every sample is
-     * scored (null otherwise: the verdict is then a raced one, wrong with probability at most the race's alpha).
+     * samples this run has paid for, how many of them were correct and the sum of their true-class probabilities,
+     * the run's budget spent once it last paid for the set (the same after a resume), and the full score when every
+     * sample is scored (null otherwise: the verdict is then a raced one, wrong with probability at most the race's
+     * alpha).
      */
-    public record Raced(RegionSet set, boolean atMost, int samples, int correct, Scored full) {
+    public record Raced(RegionSet set, boolean atMost, int samples, int correct, double probabilitySum, double charged,
+                        Scored full) {
         /** Whether the verdict rests on every sample. */
         public boolean exact() {
             return full != null;
+        }
+
+        /** The verdict of a whole score against {@code threshold}. */
+        public static Raced of(Scored full, boolean atMost) {
+            return new Raced(full.set(), atMost, full.score().n(), full.score().correct(),
+                    full.score().meanTrueClassProbability() * full.score().n(), full.charged(), full);
         }
     }
 
@@ -373,46 +382,239 @@ public final class LesionScorer {
     private static final class RaceState {
         int[] predicted;
         float[] probability;
+        /** Samples with outcomes (scored by this run or another). */
         int done;
+        /** Samples this run has paid for: always a look. */
         int paid;
-        int correct;
-        int look = -1;
-        RaceRule.Verdict verdict = RaceRule.Verdict.OPEN;
+        /** This run's budget spent once it paid for each look (index = look; NaN beyond the last paid). */
+        double[] chargedAt;
     }
 
     private Racing racing;
     private int[] raceOrder;
+    private int[] raceLooks;
     private Decoder.Bound[] chunkBound;
     private final Map<RegionSet, RaceState> races = new HashMap<>();
 
     /**
      * Races {@code sets} (in order; duplicates allowed) against {@code threshold}: is each set's count of correct
      * samples on the whole part at most the threshold ({@link CollapseCriterion#criticalCount} gives it for the
-     * collapse criterion)? Samples are scored in the racing order, a chunk at a time for every open set, until
-     * {@link RaceRule} settles each; a raced set costs the fraction of the samples it used. Sets already fully scored
-     * are answered from their scores as {@link #scoreWithinBudget} would charge them; raced progress is kept in the
-     * store (and completed later without scoring a sample twice). Returns the longest prefix of {@code sets} that is
-     * settled within the budget, leaving {@code keep} unspent.
+     * collapse criterion)? Samples are scored in the racing order, a look (chunk) at a time for every open set, until
+     * {@link RaceRule} settles each; a raced set costs the fraction of the samples it used. A set's verdict is taken
+     * at the first look that settles it, so a resumed run, finding progress a killed one paid for, answers exactly as
+     * the uninterrupted run did. Sets scored whole without racing are answered from their scores as {@link
+     * #scoreWithinBudget} would charge them; raced progress is kept in the store (and completed later without scoring
+     * a sample twice). Returns the longest prefix of {@code sets} that is settled within the budget, leaving {@code
+     * keep} unspent.
      */
     public List<Raced> raceWithinBudget(List<RegionSet> sets, int threshold, Racing settings, double keep) {
-        Objects.requireNonNull(settings, "settings");
+        int n = inputs.size();
+        bindRace(settings);
+        RaceRule rule = RaceRule.of(n, threshold, raceLooks, settings.alpha());
+        Map<RegionSet, Raced> out = new HashMap<>();
+        List<RegionSet> open = new ArrayList<>();
+        for (Scored sc : resolveRaces(sets, open, keep)) {
+            out.put(sc.set(), Raced.of(sc, sc.score().correct() <= threshold));
+        }
+        double available = Math.max(0, budget.remaining() - keep);
+        List<RegionSet> racing = new ArrayList<>();
+        for (RegionSet s : open) {
+            int j = verdictLook(races.get(s), rule);
+            if (j >= 0) {
+                out.put(s, raced(s, races.get(s), rule, j));
+            } else {
+                racing.add(s);
+            }
+        }
+        while (!racing.isEmpty()) {
+            List<RegionSet> step = affordable(racing, available);
+            if (step.isEmpty()) {
+                break;
+            }
+            available -= cost(step);
+            advance(step);
+            List<RegionSet> still = new ArrayList<>();
+            for (RegionSet s : racing) {
+                RaceState st = races.get(s);
+                int j = verdictLook(st, rule);
+                if (j >= 0) {
+                    out.put(s, raced(s, st, rule, j));
+                } else {
+                    still.add(s);
+                }
+            }
+            racing = still;
+        }
+        return prefix(sets, out);
+    }
+
+    /**
+     * A set's progress in the racing order at one look: the samples of that look, how many of them were correct,
+     * the sum of their true-class probabilities, each sample's true-class probability and correctness in racing order
+     * (so two sets can be compared sample by sample), this run's budget spent once it paid for that look (the same
+     * after a resume), and the full score once every sample is scored (else null).
+     */
+    public record Progress(RegionSet set, int samples, int correct, double probabilitySum, float[] probabilities,
+                           boolean[] correctness, double charged, Scored full) {
+        /** Whether every sample is scored. */
+        public boolean complete() {
+            return full != null;
+        }
+    }
+
+    /**
+     * Brings each of {@code sets} (in order; duplicates allowed) to look {@code look} of the racing order ({@code
+     * settings}: looks after every chunk of samples), paying for samples not yet paid, and returns each set's progress
+     * at that look; progress already paid beyond it (e.g. by a killed run being resumed) is reported at that look,
+     * as the uninterrupted run saw it. Sets scored whole without racing are answered from their scores as {@link
+     * #scoreWithinBudget} would charge them. Returns the longest prefix of {@code sets} brought there within the
+     * budget less {@code keep}. What a strategy racing its own comparisons (selecting the best of many candidates,
+     * say) builds on.
+     */
+    public List<Progress> advanceWithinBudget(List<RegionSet> sets, int look, Racing settings, double keep) {
+        bindRace(settings);
+        if (look < 0 || look >= raceLooks.length) {
+            throw new IllegalArgumentException("look must be within 0.." + (raceLooks.length - 1) + ", found " + look);
+        }
+        Map<RegionSet, Progress> out = new HashMap<>();
+        List<RegionSet> open = new ArrayList<>();
+        for (Scored sc : resolveRaces(sets, open, keep)) {
+            out.put(sc.set(), progress(sc));
+        }
+        double available = Math.max(0, budget.remaining() - keep);
+        List<RegionSet> behind = new ArrayList<>();
+        for (RegionSet s : open) {
+            if (races.get(s).paid >= raceLooks[look]) {
+                out.put(s, progress(s, races.get(s), look));
+            } else {
+                behind.add(s);
+            }
+        }
+        while (!behind.isEmpty()) {
+            List<RegionSet> step = affordable(behind, available);
+            if (step.isEmpty()) {
+                break;
+            }
+            available -= cost(step);
+            advance(step);
+            List<RegionSet> still = new ArrayList<>();
+            for (RegionSet s : behind) {
+                RaceState st = races.get(s);
+                if (st.paid >= raceLooks[look]) {
+                    out.put(s, progress(s, st, look));
+                } else {
+                    still.add(s);
+                }
+            }
+            behind = still;
+        }
+        return prefix(sets, out);
+    }
+
+    /** The number of looks of the racing order (after every chunk of samples; the last sees every sample). */
+    public int raceLooks(Racing settings) {
+        bindRace(settings);
+        return raceLooks.length;
+    }
+
+    /**
+     * Sorts the distinct sets of {@code sets} into raced ones (with progress in memory or in the store, or with none
+     * and no whole score: added to {@code open} with a state) and sets scored whole without racing, which are
+     * answered (and charged) as {@link #scoreWithinBudget} would; returns those whole scores.
+     */
+    private List<Scored> resolveRaces(List<RegionSet> sets, List<RegionSet> open, double keep) {
         if (costPerSet == 0) {
             throw new IllegalStateException("racing is for the searched part; this scorer charges nothing per set");
         }
-        int n = inputs.size();
-        bindRace(settings);
-        RaceRule rule = RaceRule.of(n, threshold, RaceRule.looks(n, settings.chunk()), settings.alpha());
-        int[] looks = rule.looks();
-        // Sets with a full score in memory or in the store: answered as scoring would charge them.
         List<RegionSet> distinct = new ArrayList<>(new LinkedHashSet<>(sets));
-        List<RegionSet> full = new ArrayList<>();
-        List<RegionSet> open = new ArrayList<>();
-        Map<EvaluationKey, RegionSet> unknownKeys = new LinkedHashMap<>();
+        List<RegionSet> missing = new ArrayList<>();
         for (RegionSet s : distinct) {
             if (s.universe() != inputs.batch().regions()) {
                 throw new IllegalArgumentException("set over " + s.universe() + " regions, the model takes "
                         + inputs.batch().regions());
             }
+            if (!races.containsKey(s)) {
+                missing.add(s);
+            }
+        }
+        loadRaceStates(missing);
+        List<RegionSet> noProgress = new ArrayList<>();
+        for (RegionSet s : missing) {
+            if (!races.containsKey(s)) {
+                noProgress.add(s);
+            }
+        }
+        List<RegionSet> whole = new ArrayList<>();
+        List<RegionSet> fresh = new ArrayList<>();
+        splitScored(noProgress, whole, fresh);
+        for (RegionSet s : fresh) {
+            races.put(s, newState());
+        }
+        Set<RegionSet> wholeSet = new HashSet<>(whole);
+        for (RegionSet s : distinct) {
+            if (!wholeSet.contains(s)) {
+                open.add(s);
+            }
+        }
+        return scoreWithinBudget(whole, keep);
+    }
+
+    private RaceState newState() {
+        RaceState st = new RaceState();
+        st.predicted = new int[inputs.size()];
+        st.probability = new float[inputs.size()];
+        st.chargedAt = new double[raceLooks.length];
+        java.util.Arrays.fill(st.chargedAt, Double.NaN);
+        return st;
+    }
+
+    /** The longest prefix of {@code sets} that fits {@code available} when each pays for its next look. */
+    private List<RegionSet> affordable(List<RegionSet> sets, double available) {
+        List<RegionSet> step = new ArrayList<>();
+        double cost = 0;
+        for (RegionSet s : sets) {
+            double c = nextLookCost(races.get(s));
+            if (cost + c > available + 1e-9) {
+                break;
+            }
+            cost += c;
+            step.add(s);
+        }
+        return step;
+    }
+
+    private double cost(List<RegionSet> sets) {
+        double c = 0;
+        for (RegionSet s : sets) {
+            c += nextLookCost(races.get(s));
+        }
+        return c;
+    }
+
+    private double nextLookCost(RaceState st) {
+        int next = lookOf(st.paid, raceLooks) + 1;
+        return costPerSet * (raceLooks[next] - st.paid) / inputs.size();
+    }
+
+    private static <T> List<T> prefix(List<RegionSet> sets, Map<RegionSet, T> out) {
+        List<T> result = new ArrayList<>();
+        for (RegionSet s : sets) {
+            T r = out.get(s);
+            if (r == null) {
+                break;
+            }
+            result.add(r);
+        }
+        return result;
+    }
+
+    /**
+     * Splits the distinct sets of {@code sets} into those with a full score in memory or in the store ({@code full})
+     * and the rest ({@code open}), in order.
+     */
+    private void splitScored(List<RegionSet> sets, List<RegionSet> full, List<RegionSet> open) {
+        Map<EvaluationKey, RegionSet> unknownKeys = new LinkedHashMap<>();
+        for (RegionSet s : new LinkedHashSet<>(sets)) {
             if (memo.containsKey(s)) {
                 full.add(s);
             } else {
@@ -427,69 +629,76 @@ public final class LesionScorer {
         } else {
             open.addAll(unknownKeys.values());
         }
-        Map<RegionSet, Raced> out = new HashMap<>();
-        List<Scored> known = scoreWithinBudget(full, keep);
-        for (Scored sc : known) {
-            out.put(sc.set(), new Raced(sc.set(), sc.score().correct() <= threshold, n, sc.score().correct(), sc));
+    }
+
+    /** The progress of a set scored whole without racing, its samples in racing order. */
+    private Progress progress(Scored sc) {
+        int n = sc.outcomes().size();
+        int[] labels = inputs.labels();
+        double sum = 0;
+        float[] prob = new float[n];
+        boolean[] right = new boolean[n];
+        for (int i = 0; i < n; i++) {
+            int s = raceOrder[i];
+            prob[i] = sc.outcomes().trueClassProbability(s);
+            right[i] = sc.outcomes().predicted(s) == labels[s];
+            sum += prob[i];
         }
-        loadRaceStates(open);
-        // Sets whose progress already settles them (after a resume) need no more samples.
-        List<RegionSet> racing = new ArrayList<>();
-        for (RegionSet s : open) {
-            RaceState st = races.get(s);
-            settle(st, rule, looks);
-            if (st.verdict == RaceRule.Verdict.OPEN) {
-                racing.add(s);
-            } else {
-                out.put(s, raced(s, st, n));
+        return new Progress(sc.set(), sc.score().n(), sc.score().correct(), sum, prob, right, sc.charged(), sc);
+    }
+
+    /** A raced set's progress at look {@code look} (paid for). */
+    private Progress progress(RegionSet s, RaceState st, int look) {
+        int m = raceLooks[look];
+        int[] labels = inputs.labels();
+        double sum = 0;
+        int correct = 0;
+        boolean[] right = new boolean[m];
+        for (int i = 0; i < m; i++) {
+            sum += st.probability[i];
+            right[i] = st.predicted[i] == labels[raceOrder[i]];
+            correct += right[i] ? 1 : 0;
+        }
+        Scored full = look == raceLooks.length - 1 ? completed(s) : null;
+        return new Progress(s, m, correct, sum, java.util.Arrays.copyOf(st.probability, m), right, st.chargedAt[look],
+                full);
+    }
+
+    /** Correct samples among a raced set's first {@code m} in racing order. */
+    private int correctIn(RaceState st, int m) {
+        int[] labels = inputs.labels();
+        int c = 0;
+        for (int i = 0; i < m; i++) {
+            if (st.predicted[i] == labels[raceOrder[i]]) {
+                c++;
             }
         }
-        double available = Math.max(0, budget.remaining() - keep);
-        while (!racing.isEmpty()) {
-            // Each open set's next look; pay in list order while the budget lasts.
-            List<RegionSet> step = new ArrayList<>();
-            double cost = 0;
-            for (RegionSet s : racing) {
-                RaceState st = races.get(s);
-                double c = costPerSet * (looks[st.look + 1] - st.paid) / n;
-                if (cost + c > available + 1e-9) {
-                    break;
-                }
-                cost += c;
-                step.add(s);
+        return c;
+    }
+
+    /** The first look paid for at which {@code rule} settles the set, or −1 when none does yet. */
+    private int verdictLook(RaceState st, RaceRule rule) {
+        int last = lookOf(st.paid, raceLooks);
+        for (int j = 0; j <= last; j++) {
+            if (rule.verdict(j, correctIn(st, raceLooks[j])) != RaceRule.Verdict.OPEN) {
+                return j;
             }
-            if (step.isEmpty()) {
-                break;
-            }
-            available -= cost;
-            advance(step, looks);
-            List<RegionSet> still = new ArrayList<>();
-            for (RegionSet s : racing) {
-                RaceState st = races.get(s);
-                if (step.contains(s)) {
-                    settle(st, rule, looks);
-                }
-                if (st.verdict == RaceRule.Verdict.OPEN) {
-                    still.add(s);
-                } else {
-                    out.put(s, raced(s, st, n));
-                }
-            }
-            racing = still;
         }
-        List<Raced> result = new ArrayList<>();
-        for (RegionSet s : sets) {
-            Raced r = out.get(s);
-            if (r == null) {
-                break;
-            }
-            result.add(r);
+        return -1;
+    }
+
+    /** The last look at or below {@code paid} samples (−1: none). */
+    private static int lookOf(int paid, int[] looks) {
+        int look = -1;
+        for (int j = 0; j < looks.length && looks[j] <= paid; j++) {
+            look = j;
         }
-        return result;
+        return look;
     }
 
     /** Fixes the racing order and chunk bindings on first use; later calls must race with the same settings. */
     private void bindRace(Racing settings) {
+        Objects.requireNonNull(settings, "settings");
         if (racing != null) {
             if (!racing.equals(settings)) {
                 throw new IllegalArgumentException("this scorer races with " + racing + ", asked for " + settings);
@@ -498,7 +707,8 @@ public final class LesionScorer {
         }
         int n = inputs.size();
         raceOrder = raceOrder(n, settings.orderSeed());
-        chunkBound = new Decoder.Bound[(n + settings.chunk() - 1) / settings.chunk()];
+        raceLooks = RaceRule.looks(n, settings.chunk());
+        chunkBound = new Decoder.Bound[raceLooks.length];
         racing = settings;
     }
 
@@ -555,66 +765,45 @@ public final class LesionScorer {
         };
     }
 
-    /** Loads the racing progress of {@code sets} this scorer does not hold yet, from the store when there is one. */
+    /** Loads the stored racing progress of {@code sets} (those without any get no state here). */
     private void loadRaceStates(List<RegionSet> sets) {
-        int n = inputs.size();
-        Map<EvaluationKey, RegionSet> missing = new LinkedHashMap<>();
+        if (store == null || sets.isEmpty()) {
+            return;
+        }
+        Map<EvaluationKey, RegionSet> byKey = new LinkedHashMap<>();
         for (RegionSet s : sets) {
-            if (!races.containsKey(s)) {
-                missing.put(key(s), s);
+            byKey.put(key(s), s);
+        }
+        Map<EvaluationKey, ResultsStore.Partial> found = store.partials(run, byKey.keySet(), racing.orderSeed(),
+                racing.chunk());
+        for (Map.Entry<EvaluationKey, ResultsStore.Partial> e : found.entrySet()) {
+            ResultsStore.Partial p = e.getValue();
+            RaceState st = newState();
+            st.done = p.outcomes().size();
+            st.paid = p.samplesPaid();
+            for (int i = 0; i < st.done; i++) {
+                st.predicted[i] = p.outcomes().predicted(i);
+                st.probability[i] = p.outcomes().trueClassProbability(i);
             }
+            double[] at = p.spentAfter();
+            System.arraycopy(at, 0, st.chargedAt, 0, Math.min(at.length, st.chargedAt.length));
+            races.put(byKey.get(e.getKey()), st);
         }
-        Map<EvaluationKey, ResultsStore.Partial> found = store == null || missing.isEmpty() ? Map.of()
-                : store.partials(run, missing.keySet(), racing.orderSeed(), racing.chunk());
-        int[] labels = inputs.labels();
-        for (Map.Entry<EvaluationKey, RegionSet> e : missing.entrySet()) {
-            RaceState st = new RaceState();
-            st.predicted = new int[n];
-            st.probability = new float[n];
-            ResultsStore.Partial p = found.get(e.getKey());
-            if (p != null) {
-                st.done = p.outcomes().size();
-                st.paid = p.samplesPaid();
-                for (int i = 0; i < st.done; i++) {
-                    st.predicted[i] = p.outcomes().predicted(i);
-                    st.probability[i] = p.outcomes().trueClassProbability(i);
-                }
-                for (int i = 0; i < st.paid; i++) {
-                    if (st.predicted[i] == labels[raceOrder[i]]) {
-                        st.correct++;
-                    }
-                }
-            }
-            races.put(e.getValue(), st);
-        }
-    }
-
-    /** The verdict of a set's progress: at its last look paid for. */
-    private void settle(RaceState st, RaceRule rule, int[] looks) {
-        st.look = -1;
-        for (int j = 0; j < looks.length && looks[j] <= st.paid; j++) {
-            st.look = j;
-        }
-        st.verdict = st.look < 0 ? RaceRule.Verdict.OPEN : rule.verdict(st.look, st.correct);
     }
 
     /**
-     * Brings every set of {@code step} to its next look: samples already scored (by another run) are paid for,
-     * the rest decoded chunk by chunk, sets at the same chunk together; each group's progress and charges are
+     * Pays for the next look of every set of {@code step}: samples already scored (by another run) are only paid
+     * for, the rest decoded chunk by chunk, sets at the same chunk together; each group's progress and charges are
      * committed in one transaction, and a set that reaches the last sample gets its full evaluation stored.
      */
-    private void advance(List<RegionSet> step, int[] looks) {
+    private void advance(List<RegionSet> step) {
         int n = inputs.size();
         int[] labels = inputs.labels();
         Map<Integer, List<RegionSet>> byChunk = new java.util.TreeMap<>();
         for (RegionSet s : step) {
             RaceState st = races.get(s);
-            int target = looks[st.look + 1];
-            if (st.done >= target) {
-                byChunk.computeIfAbsent(-1, k -> new ArrayList<>()).add(s);
-            } else {
-                byChunk.computeIfAbsent(st.done / racing.chunk(), k -> new ArrayList<>()).add(s);
-            }
+            int target = raceLooks[lookOf(st.paid, raceLooks) + 1];
+            byChunk.computeIfAbsent(st.done >= target ? -1 : st.done / racing.chunk(), k -> new ArrayList<>()).add(s);
         }
         for (Map.Entry<Integer, List<RegionSet>> e : byChunk.entrySet()) {
             List<RegionSet> group = e.getValue();
@@ -652,19 +841,16 @@ public final class LesionScorer {
                 List<RegionSet> completed = new ArrayList<>();
                 for (RegionSet s : part) {
                     RaceState st = races.get(s);
-                    int target = looks[st.look + 1];
-                    for (int i = st.paid; i < target; i++) {
-                        if (st.predicted[i] == labels[raceOrder[i]]) {
-                            st.correct++;
-                        }
-                    }
-                    double c = costPerSet * (target - st.paid) / n;
+                    int look = lookOf(st.paid, raceLooks) + 1;
+                    double c = costPerSet * (raceLooks[look] - st.paid) / n;
                     budget.charge(c);
-                    st.paid = target;
+                    st.paid = raceLooks[look];
+                    st.chargedAt[look] = snap(budget.spent());
                     if (store != null) {
                         updates.add(new ResultsStore.PartialUpdate(key(s), racing.orderSeed(), racing.chunk(),
                                 new Outcomes(java.util.Arrays.copyOf(st.predicted, st.done),
-                                        java.util.Arrays.copyOf(st.probability, st.done)), st.paid, c));
+                                        java.util.Arrays.copyOf(st.probability, st.done)), st.paid, c,
+                                java.util.Arrays.copyOf(st.chargedAt, look + 1)));
                     }
                     if (st.paid == n) {
                         completed.add(s);
@@ -676,6 +862,15 @@ public final class LesionScorer {
                 complete(completed, wall / Math.max(1, part.size()));
             }
         }
+    }
+
+    /** A budget snapshot as a whole number of samples: fractional charges summed in another order agree exactly. */
+    private double snap(double spent) {
+        if (costPerSet == 0 || Double.isNaN(spent)) {
+            return spent;
+        }
+        int n = inputs.size();
+        return Math.round(spent * n) / (double) n;
     }
 
     /** Stores and remembers the full evaluation of raced sets that have every sample scored (charged nothing more). */
@@ -696,7 +891,7 @@ public final class LesionScorer {
             }
             Outcomes o = new Outcomes(predicted, probability);
             SetScore sc = SetScore.of(o, labels, inputs.classLabels().size());
-            Scored scored = new Scored(s, sc, o, Source.DECODED, budget.spent());
+            Scored scored = new Scored(s, sc, o, Source.DECODED, st.chargedAt[raceLooks.length - 1]);
             memo.put(s, scored);
             decoded++;
             if (store != null) {
@@ -708,13 +903,29 @@ public final class LesionScorer {
         }
     }
 
-    private Raced raced(RegionSet s, RaceState st, int n) {
-        Scored full = st.paid == n ? memo.get(s) : null;
-        if (st.paid == n && full == null) {
+    /** The full score of a raced set with every sample paid for. */
+    private Scored completed(RegionSet s) {
+        Scored full = memo.get(s);
+        if (full == null) {
             complete(List.of(s), 0);
             full = memo.get(s);
         }
-        return new Raced(s, st.verdict == RaceRule.Verdict.AT_MOST, st.paid, st.correct, full);
+        return full;
+    }
+
+    private Raced raced(RegionSet s, RaceState st, RaceRule rule, int look) {
+        int m = raceLooks[look];
+        boolean atMost = rule.verdict(look, correctIn(st, m)) == RaceRule.Verdict.AT_MOST;
+        if (look == raceLooks.length - 1) {
+            Scored full = completed(s);
+            return new Raced(s, atMost, m, full.score().correct(), full.score().meanTrueClassProbability() * m,
+                    st.chargedAt[look], full);
+        }
+        double sum = 0;
+        for (int i = 0; i < m; i++) {
+            sum += st.probability[i];
+        }
+        return new Raced(s, atMost, m, correctIn(st, m), sum, st.chargedAt[look], null);
     }
 
     private String names(RegionSet s) {

@@ -723,7 +723,7 @@ public final class ResultsStore implements AutoCloseable {
                         byHex.put(k.setHex(), k);
                     }
                     String sql = "SELECT p.id, p.set_hex, p.samples_done, p.predicted, p.true_class_prob,"
-                            + " coalesce(rp.samples_paid, 0) FROM partial_evaluations p LEFT JOIN run_partials rp"
+                            + " coalesce(rp.samples_paid, 0), rp.spent_after FROM partial_evaluations p LEFT JOIN run_partials rp"
                             + " ON rp.partial_id = p.id AND rp.run_id = ? WHERE " + KEY_WHERE.replace("model_hash",
                             "p.model_hash").replace("data_hash", "p.data_hash").replace("preprocessing",
                             "p.preprocessing").replace("lesion_mode", "p.lesion_mode").replace("mode_seed",
@@ -742,7 +742,8 @@ public final class ResultsStore implements AutoCloseable {
                                 EvaluationKey k = byHex.get(r.getString(2));
                                 Outcomes o = decodeOutcomes(file, r.getLong(1), r.getInt(3), r.getBytes(4),
                                         r.getBytes(5));
-                                out.put(k, new Partial(k, orderSeed, chunk, o, r.getInt(6)));
+                                out.put(k, new Partial(k, orderSeed, chunk, o, r.getInt(6),
+                                        parseSpent(r.getString(7))));
                             }
                         }
                     }
@@ -783,8 +784,9 @@ public final class ResultsStore implements AutoCloseable {
                      PreparedStatement id = c.prepareStatement("SELECT id FROM partial_evaluations WHERE "
                         + KEY_WHERE + " AND set_hex = ? AND order_seed = ? AND chunk = ?");
                      PreparedStatement pay = c.prepareStatement("INSERT INTO run_partials (run_id, partial_id,"
-                        + " samples_paid, cost) VALUES (?, ?, ?, ?) ON CONFLICT (run_id, partial_id) DO UPDATE SET"
-                        + " samples_paid = excluded.samples_paid, cost = run_partials.cost + excluded.cost"
+                        + " samples_paid, cost, spent_after) VALUES (?, ?, ?, ?, ?) ON CONFLICT (run_id, partial_id)"
+                        + " DO UPDATE SET samples_paid = excluded.samples_paid, cost = run_partials.cost"
+                        + " + excluded.cost, spent_after = excluded.spent_after"
                         + " WHERE excluded.samples_paid > run_partials.samples_paid")) {
                     for (PartialUpdate u : updates) {
                         EvaluationKey k = u.key();
@@ -816,6 +818,7 @@ public final class ResultsStore implements AutoCloseable {
                         pay.setLong(2, pid);
                         pay.setInt(3, u.samplesPaid());
                         pay.setDouble(4, u.cost());
+                        pay.setString(5, joinSpent(u.spentAfter()));
                         if (pay.executeUpdate() == 1) {
                             cost += u.cost();
                         }
@@ -824,6 +827,32 @@ public final class ResultsStore implements AutoCloseable {
                 return cost;
             }, cost -> run.spent += cost);
         }
+    }
+
+    /** Budget snapshots as stored in {@code run_partials.spent_after}: space-separated doubles. */
+    static String joinSpent(double[] spent) {
+        StringBuilder sb = new StringBuilder();
+        for (double v : spent) {
+            sb.append(sb.length() == 0 ? "" : " ").append(v);
+        }
+        return sb.toString();
+    }
+
+    private double[] parseSpent(String text) {
+        if (text == null || text.isBlank()) {
+            return new double[0];
+        }
+        String[] parts = text.strip().split(" ");
+        double[] out = new double[parts.length];
+        for (int i = 0; i < parts.length; i++) {
+            try {
+                out[i] = Double.parseDouble(parts[i]);
+            } catch (NumberFormatException e) {
+                throw new StoreException(file, "run_partials.spent_after holds '" + parts[i] + "', expected numbers "
+                        + "separated by spaces", e);
+            }
+        }
+        return out;
     }
 
     /** Marks {@code run} finished now. */
@@ -1240,9 +1269,11 @@ public final class ResultsStore implements AutoCloseable {
 
     /**
      * A set scored on the first {@code outcomes.size()} samples of a race order ({@code orderSeed}, {@code chunk}):
-     * their outcomes in that order, and the prefix the run it was looked up for has paid for.
+     * their outcomes in that order, the prefix the run it was looked up for has paid for, and that run's budget spent
+     * once it paid for each look (empty when it has paid for none).
      */
-    public record Partial(EvaluationKey key, long orderSeed, int chunk, Outcomes outcomes, int samplesPaid) {
+    public record Partial(EvaluationKey key, long orderSeed, int chunk, Outcomes outcomes, int samplesPaid,
+                          double[] spentAfter) {
         public Partial {
             Objects.requireNonNull(key, "key");
             Objects.requireNonNull(outcomes, "outcomes");
@@ -1251,10 +1282,11 @@ public final class ResultsStore implements AutoCloseable {
 
     /**
      * A partial evaluation to store: the outcomes of the first {@code outcomes.size()} samples of the order, the
-     * prefix the run has now paid for and what that payment costs (the samples newly paid, as a fraction of the part).
+     * prefix the run has now paid for, what that payment costs (the samples newly paid, as a fraction of the part)
+     * and the run's budget spent once it paid for each look so far.
      */
     public record PartialUpdate(EvaluationKey key, long orderSeed, int chunk, Outcomes outcomes, int samplesPaid,
-                                double cost) {
+                                double cost, double[] spentAfter) {
         public PartialUpdate {
             Objects.requireNonNull(key, "key");
             Objects.requireNonNull(outcomes, "outcomes");

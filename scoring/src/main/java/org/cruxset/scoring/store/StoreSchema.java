@@ -215,6 +215,7 @@ final class StoreSchema {
               partial_id   INTEGER NOT NULL REFERENCES partial_evaluations (id),
               samples_paid INTEGER NOT NULL CHECK (samples_paid >= 1),
               cost         REAL    NOT NULL CHECK (cost >= 0),
+              spent_after  TEXT    NOT NULL,
               PRIMARY KEY (run_id, partial_id)
             ) WITHOUT ROWID""");
 

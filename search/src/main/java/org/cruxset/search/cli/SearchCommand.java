@@ -122,6 +122,13 @@ public final class SearchCommand implements Callable<Integer> {
                     + "(0 to 1; unused with --no-prune). Default: ${DEFAULT-VALUE}.")
     double reserve;
 
+    @Option(names = "--race", negatable = true, defaultValue = "true", fallbackValue = "true",
+            description = "Race decisions on the search part: score a set's samples a chunk at a time in a seeded "
+                    + "order and stop once its verdict is settled (at most 1%% error, exact hypergeometric bounds); "
+                    + "sets the search reports are always scored whole. --no-race scores every set whole. "
+                    + "Default: on.")
+    boolean race;
+
     @Override
     public Integer call() {
         PrintWriter pw = spec.commandLine().getOut();
@@ -153,7 +160,7 @@ public final class SearchCommand implements Callable<Integer> {
             SearchProgress progress = new SearchProgress(spec.commandLine().getErr(), budget);
             SearchRun.Result r = SearchRun.run(session, s, new SearchRun.Settings(
                     hours == null ? Double.POSITIVE_INFINITY : hours * 3600, deadline, seed, !noPrune, certify,
-                    reserve),
+                    reserve, race),
                     progress);
             progress.done();
             print(pw, session, s, r);
@@ -270,6 +277,12 @@ public final class SearchCommand implements Callable<Integer> {
             pw.printf("Batches: %d sent to the scorer, %.1f sets each on average, %d at most.%n", r.batches(),
                     (double) r.batchedSets() / r.batches(), r.largestBatch());
         }
+        int samples = session.search().inputs().size();
+        pw.printf("Racing: %s. Sample-evaluations charged: %.0f (%.1f scored sets of %d samples); %d critical-or-not "
+                        + "decisions, %d of them (%.0f%%) settled by a race before every sample was scored; %.1f s.%n",
+                race ? "on (--no-race to score every set whole)" : "off", r.charged() * samples, r.charged(), samples,
+                r.decisions(), r.racedDecisions(), r.decisions() == 0 ? 0.0 : 100.0 * r.racedDecisions() / r.decisions(),
+                r.elapsedSeconds());
         if (r.resumed()) {
             pw.printf("Resumed: %.1f s of search were spent in earlier sessions of this run%s.%n", r.elapsedBeforeSeconds(),
                     hours == null ? "" : ", of the " + hours + " h allowed");

@@ -21,6 +21,14 @@ import org.cruxset.search.Strategy;
  * still the largest (lazy evaluation of stale gains: Minoux 1978; CELF, Leskovec et al. 2007). That equals plain
  * greedy only when gains never grow as regions are added (diminishing returns); synergy between regions breaks it,
  * so lazy is a labelled heuristic, off by default.
+ *
+ * <p>With racing on ({@link SearchContext#racing()}), a step races the candidates for the lowest signal (whether the
+ * chosen one is critical is then read from its whole score, as without racing): all candidates advance a chunk of samples at a time on the same samples, and a candidate is dropped once
+ * a paired test says its signal is above the leader's (see {@link #dominated}), with δ the race's alpha spent
+ * linearly over the looks and split over the candidates; the survivors are scored whole and the best taken as without
+ * racing. (Bounds that hold for any distribution, Serfling's or the empirical Bernstein–Serfling bound of Bardenet &amp;
+ * Maillard 2015, were tried first: their range terms kept every candidate alive on the search benchmark, so racing
+ * saved 1-2%.)
  */
 public final class GrowStrategy implements Strategy {
     private final boolean byAccuracy;
@@ -61,7 +69,9 @@ public final class GrowStrategy implements Strategy {
                 return;
             }
             LesionScorer.Scored next;
-            if (!lazy || stale == null) {
+            if (ctx.racing() != null) {
+                next = racedStep(ctx, current);
+            } else if (!lazy || stale == null) {
                 List<LesionScorer.Scored> scored = scoreAll(ctx, current);
                 next = scored.get(0);
                 for (LesionScorer.Scored s : scored) {
@@ -84,6 +94,87 @@ public final class GrowStrategy implements Strategy {
             current = next.set();
             currentScore = next.score();
         }
+    }
+
+    /** One step with racing (see the class comment). */
+    private LesionScorer.Scored racedStep(SearchContext ctx, RegionSet current) {
+        List<RegionSet> candidates = new ArrayList<>();
+        for (int p = 0; p < ctx.regions(); p++) {
+            if (!current.contains(p)) {
+                candidates.add(current.with(p));
+            }
+        }
+        int n = ctx.intact().n();
+        double alpha = ctx.racing().alpha();
+        int chunk = ctx.racing().chunk();
+        List<RegionSet> alive = candidates;
+        int looks = ctx.raceLooks();
+        for (int look = 0; alive.size() > 1 && look < looks; look++) {
+            List<LesionScorer.Progress> progress = ctx.advance(alive, look);
+            // The leader: the lowest mean signal so far; every other candidate is compared with it sample by sample.
+            LesionScorer.Progress leader = progress.get(0);
+            for (LesionScorer.Progress p : progress) {
+                if (mean(p, p.samples()) < mean(leader, leader.samples())) {
+                    leader = p;
+                }
+            }
+            boolean allComplete = true;
+            List<RegionSet> next = new ArrayList<>();
+            double delta = alpha * Math.min(chunk, n) / n / candidates.size();
+            for (LesionScorer.Progress p : progress) {
+                allComplete &= p.complete();
+                if (p == leader || !dominated(p, leader, n, delta)) {
+                    next.add(p.set());
+                }
+            }
+            alive = next;
+            if (allComplete) {
+                break;
+            }
+        }
+        LesionScorer.Scored best = null;
+        for (LesionScorer.Scored s : ctx.score(alive)) {
+            if (best == null || order().compare(s.score(), best.score()) < 0) {
+                best = s;
+            }
+        }
+        return best;
+    }
+
+    /** The mean signal of a candidate's first {@code m} samples in racing order. */
+    private double mean(LesionScorer.Progress p, int m) {
+        double sum = 0;
+        for (int i = 0; i < m; i++) {
+            sum += byAccuracy ? (p.correctness()[i] ? 1 : 0) : p.probabilities()[i];
+        }
+        return sum / m;
+    }
+
+    /**
+     * Whether candidate {@code p}'s whole-part signal is above {@code leader}'s: a one-sided paired test of the mean
+     * per-sample difference over the samples both have, with the finite-population correction of sampling without
+     * replacement, (mean − z·sd·sqrt((1 − m/N)/m) > 0, z the normal quantile of 1 − δ; the paired t-race of racing
+     * algorithms, common practice). Exact once both are complete. A heuristic step of a heuristic strategy: a wrong
+     * drop changes which region greedy adds, never a reported verdict.
+     */
+    private boolean dominated(LesionScorer.Progress p, LesionScorer.Progress leader, int n, double delta) {
+        int m = Math.min(p.samples(), leader.samples());
+        double sum = 0;
+        double sq = 0;
+        for (int i = 0; i < m; i++) {
+            double d = byAccuracy ? (p.correctness()[i] ? 1 : 0) - (leader.correctness()[i] ? 1 : 0)
+                    : p.probabilities()[i] - leader.probabilities()[i];
+            sum += d;
+            sq += d * d;
+        }
+        double mean = sum / m;
+        if (m >= n) {
+            return mean > 0;
+        }
+        double sd = Math.sqrt(Math.max(0, (sq - m * mean * mean) / Math.max(1, m - 1)));
+        double z = new org.apache.commons.math3.distribution.NormalDistribution(null, 0, 1)
+                .inverseCumulativeProbability(1 - delta);
+        return mean - z * sd * Math.sqrt((1 - (double) m / n) / m) > 0;
     }
 
     /** Scores every remaining region added to {@code current}, as one batch in model input order. */
