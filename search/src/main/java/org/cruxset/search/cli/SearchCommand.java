@@ -269,8 +269,8 @@ public final class SearchCommand implements Callable<Integer> {
 
     private void print(PrintWriter pw, ScoringSession session, Strategy s, SearchRun.Result r) {
         pw.println();
-        pw.printf("Stopped: %s (%s). Scored sets charged: %.0f%s; this session decoded %d, reused %d from the store, "
-                        + "replayed %d already paid; %.1f s of search.%n", r.status(), r.stopMessage(), r.charged(),
+        pw.printf("Stopped: %s (%s). Scored sets charged: %.0f%s; this session decoded %d sets whole, reused %d from "
+                        + "the store, replayed %d already paid; %.1f s of search.%n", r.status(), r.stopMessage(), r.charged(),
                 budget == null ? "" : " of " + budget, session.scorer().decodedCount(), session.scorer().storedCount(),
                 session.scorer().replayedCount(), r.elapsedSeconds());
         if (r.batches() > 0) {
