@@ -99,6 +99,7 @@ public final class LesionScorer {
         this.chunk = Math.max(1, Math.min(64, 4 * threads));
         this.regionName = Objects.requireNonNull(regionName, "regionName");
         this.memo = store == null ? new HashMap<>() : boundedCache(inputs.size());
+        this.races = store == null ? new HashMap<>() : boundedRaces(inputs.size());
         if (store != null) {
             store.registerDataset(dataHash, inputs);
         }
@@ -120,6 +121,20 @@ public final class LesionScorer {
 
             @Override
             protected boolean removeEldestEntry(Map.Entry<RegionSet, Scored> eldest) {
+                return size() > max;
+            }
+        };
+    }
+
+    /** An LRU cache of racing progress sized to {@link #CACHE_MB}, for scorers with a store behind them. */
+    private static Map<RegionSet, RaceState> boundedRaces(int samples) {
+        long perEntry = 9L * samples + 400;
+        int max = (int) Math.max(1024, Math.min(Integer.MAX_VALUE, CACHE_MB * 1024L * 1024L / perEntry));
+        return new LinkedHashMap<>(1024, 0.75f, true) {
+            private static final long serialVersionUID = 1L;
+
+            @Override
+            protected boolean removeEldestEntry(Map.Entry<RegionSet, RaceState> eldest) {
                 return size() > max;
             }
         };
@@ -394,7 +409,13 @@ public final class LesionScorer {
     private int[] raceOrder;
     private int[] raceLooks;
     private Decoder.Bound[] chunkBound;
-    private final Map<RegionSet, RaceState> races = new HashMap<>();
+    /**
+     * Racing progress by set: every state without a store; with one, the most recently used ones (a cache like the
+     * scores', the rest reloaded from the store's partial evaluations when asked for again).
+     */
+    private final Map<RegionSet, RaceState> races;
+    /** The states of the sets the current racing call works on, held for the whole call. */
+    private Map<RegionSet, RaceState> active = Map.of();
 
     /**
      * Races {@code sets} (in order; duplicates allowed) against {@code threshold}: is each set's count of correct
@@ -419,9 +440,9 @@ public final class LesionScorer {
         double available = Math.max(0, budget.remaining() - keep);
         List<RegionSet> racing = new ArrayList<>();
         for (RegionSet s : open) {
-            int j = verdictLook(races.get(s), rule);
+            int j = verdictLook(active.get(s), rule);
             if (j >= 0) {
-                out.put(s, raced(s, races.get(s), rule, j));
+                out.put(s, raced(s, active.get(s), rule, j));
             } else {
                 racing.add(s);
             }
@@ -435,7 +456,7 @@ public final class LesionScorer {
             advance(step);
             List<RegionSet> still = new ArrayList<>();
             for (RegionSet s : racing) {
-                RaceState st = races.get(s);
+                RaceState st = active.get(s);
                 int j = verdictLook(st, rule);
                 if (j >= 0) {
                     out.put(s, raced(s, st, rule, j));
@@ -484,8 +505,8 @@ public final class LesionScorer {
         double available = Math.max(0, budget.remaining() - keep);
         List<RegionSet> behind = new ArrayList<>();
         for (RegionSet s : open) {
-            if (races.get(s).paid >= raceLooks[look]) {
-                out.put(s, progress(s, races.get(s), look));
+            if (active.get(s).paid >= raceLooks[look]) {
+                out.put(s, progress(s, active.get(s), look));
             } else {
                 behind.add(s);
             }
@@ -499,7 +520,7 @@ public final class LesionScorer {
             advance(step);
             List<RegionSet> still = new ArrayList<>();
             for (RegionSet s : behind) {
-                RaceState st = races.get(s);
+                RaceState st = active.get(s);
                 if (st.paid >= raceLooks[look]) {
                     out.put(s, progress(s, st, look));
                 } else {
@@ -528,19 +549,23 @@ public final class LesionScorer {
         }
         List<RegionSet> distinct = new ArrayList<>(new LinkedHashSet<>(sets));
         List<RegionSet> missing = new ArrayList<>();
+        active = new HashMap<>();
         for (RegionSet s : distinct) {
             if (s.universe() != inputs.batch().regions()) {
                 throw new IllegalArgumentException("set over " + s.universe() + " regions, the model takes "
                         + inputs.batch().regions());
             }
-            if (!races.containsKey(s)) {
+            RaceState st = races.get(s);
+            if (st == null) {
                 missing.add(s);
+            } else {
+                active.put(s, st);
             }
         }
         loadRaceStates(missing);
         List<RegionSet> noProgress = new ArrayList<>();
         for (RegionSet s : missing) {
-            if (!races.containsKey(s)) {
+            if (!active.containsKey(s)) {
                 noProgress.add(s);
             }
         }
@@ -548,7 +573,9 @@ public final class LesionScorer {
         List<RegionSet> fresh = new ArrayList<>();
         splitScored(noProgress, whole, fresh);
         for (RegionSet s : fresh) {
-            races.put(s, newState());
+            RaceState st = newState();
+            races.put(s, st);
+            active.put(s, st);
         }
         Set<RegionSet> wholeSet = new HashSet<>(whole);
         for (RegionSet s : distinct) {
@@ -573,7 +600,7 @@ public final class LesionScorer {
         List<RegionSet> step = new ArrayList<>();
         double cost = 0;
         for (RegionSet s : sets) {
-            double c = nextLookCost(races.get(s));
+            double c = nextLookCost(active.get(s));
             if (cost + c > available + 1e-9) {
                 break;
             }
@@ -586,7 +613,7 @@ public final class LesionScorer {
     private double cost(List<RegionSet> sets) {
         double c = 0;
         for (RegionSet s : sets) {
-            c += nextLookCost(races.get(s));
+            c += nextLookCost(active.get(s));
         }
         return c;
     }
@@ -788,6 +815,7 @@ public final class LesionScorer {
             double[] at = p.spentAfter();
             System.arraycopy(at, 0, st.chargedAt, 0, Math.min(at.length, st.chargedAt.length));
             races.put(byKey.get(e.getKey()), st);
+            active.put(byKey.get(e.getKey()), st);
         }
     }
 
@@ -801,7 +829,7 @@ public final class LesionScorer {
         int[] labels = inputs.labels();
         Map<Integer, List<RegionSet>> byChunk = new java.util.TreeMap<>();
         for (RegionSet s : step) {
-            RaceState st = races.get(s);
+            RaceState st = active.get(s);
             int target = raceLooks[lookOf(st.paid, raceLooks) + 1];
             byChunk.computeIfAbsent(st.done >= target ? -1 : st.done / racing.chunk(), k -> new ArrayList<>()).add(s);
         }
@@ -820,7 +848,7 @@ public final class LesionScorer {
                     float[][][] probs = chunkBound(c).probabilities(masks, threads);
                     int base = c * racing.chunk();
                     for (int i = 0; i < part.size(); i++) {
-                        RaceState st = races.get(part.get(i));
+                        RaceState st = active.get(part.get(i));
                         for (int q = 0; q < probs[i].length; q++) {
                             int label = labels[raceOrder[base + q]];
                             float[] p = probs[i][q];
@@ -840,7 +868,7 @@ public final class LesionScorer {
                 List<ResultsStore.PartialUpdate> updates = new ArrayList<>();
                 List<RegionSet> completed = new ArrayList<>();
                 for (RegionSet s : part) {
-                    RaceState st = races.get(s);
+                    RaceState st = active.get(s);
                     int look = lookOf(st.paid, raceLooks) + 1;
                     double c = costPerSet * (raceLooks[look] - st.paid) / n;
                     budget.charge(c);
@@ -882,7 +910,7 @@ public final class LesionScorer {
         int[] labels = inputs.labels();
         List<ResultsStore.NewEvaluation> fresh = new ArrayList<>();
         for (RegionSet s : done) {
-            RaceState st = races.get(s);
+            RaceState st = active.get(s);
             int[] predicted = new int[n];
             float[] probability = new float[n];
             for (int i = 0; i < n; i++) {
