@@ -77,7 +77,9 @@ public final class SparseQuadraticModel implements SurrogateModel {
             }
             a[0][0] += 1e-8;
             for (int j = 1; j < p; j++) {
-                a[j][j] += 1 / (tau2 * lambda2[j]);
+                // Prior precisions kept within [1e-6, 1e12]: with fewer sets than features a heavy-tailed draw of
+                // λ² would otherwise leave the system singular (a clamp, as horseshoe samplers commonly use).
+                a[j][j] += Math.min(1e12, Math.max(1e-6, 1 / (tau2 * lambda2[j])));
             }
             double[][] l = Linear.cholesky(a);
             double[] mean = Linear.backward(l, Linear.forward(l, xy));

@@ -112,6 +112,14 @@ class SparseQuadraticModelTest {
         assertEquals(java.util.Arrays.toString(a.draw(sets, 7)), java.util.Arrays.toString(b.draw(sets, 7)));
     }
 
+    static int[] all(int n) {
+        int[] a = new int[n];
+        for (int i = 0; i < n; i++) {
+            a[i] = i;
+        }
+        return a;
+    }
+
     static double value(QuadraticFeatures f, double[] beta, RegionSet s) {
         double[] x = f.of(s);
         double v = 0;
