@@ -186,33 +186,15 @@ public final class SearchContext {
     }
 
     /**
-     * Scores {@code sets} on the search part, in order. Throws {@link StopSearch} before scoring when the time is
-     * spent, and after scoring the prefix that fits when the budget is spent.
+     * Scores {@code sets} on the search part, in order. When the time is spent, sets this run already paid for are
+     * still replayed (they cost no time: a resumed run replays them to its frontier) and the search then stops; when
+     * the budget is spent, it stops after scoring the prefix that fits.
      */
     public List<LesionScorer.Scored> score(List<RegionSet> sets) {
-        batchedSets += sets.size();
-        largestBatch = Math.max(largestBatch, sets.size());
-        if (timeUp()) {
-            // Sets this run already paid for cost no time: a resumed run replays them to its frontier, then stops.
-            List<LesionScorer.Scored> replayed = scorer.scorePaid(sets);
-            batches++;
-            account(replayed);
-            if (replayed.size() < sets.size()) {
-                throw new StopSearch(StopSearch.Reason.TIME, "the time limit was reached after "
-                        + Math.round(elapsedSeconds()) + " s of search");
-            }
-            return replayed;
-        }
-        List<LesionScorer.Scored> scored = scorer.scoreWithinBudget(sets, reserve);
-        batches++;
+        boolean late = beginBatch(sets.size());
+        List<LesionScorer.Scored> scored = late ? scorer.scorePaid(sets) : scorer.scoreWithinBudget(sets, reserve);
         account(scored);
-        listener.scored(this);
-        if (scored.size() < sets.size()) {
-            throw new StopSearch(StopSearch.Reason.BUDGET, reserve > 0
-                    ? "the search's share of the budget of " + (long) scorer.budget().limit() + " scored sets is spent ("
-                    + (long) reserve + " kept for certificates)"
-                    : "the budget of " + (long) scorer.budget().limit() + " scored sets is spent");
-        }
+        endBatch(scored.size(), sets.size(), late);
         return scored;
     }
 
@@ -220,7 +202,8 @@ public final class SearchContext {
      * Races {@code sets} (see {@link LesionScorer#raceWithinBudget}) with the settings given to {@link #race}, or
      * scores them whole when racing is off: is each set critical on the whole search part? Fully scored sets go to the
      * front and the trace like {@link #score(List)}'s; raced verdicts do not (every reported set is fully scored).
-     * Stops like {@link #score(List)} when the time or the budget is spent.
+     * Stops like {@link #score(List)} when the time or the budget is spent (after time, only progress already paid
+     * for is used).
      */
     public List<LesionScorer.Raced> decideCritical(List<RegionSet> sets) {
         if (racing == null) {
@@ -231,14 +214,8 @@ public final class SearchContext {
             decisions += out.size();
             return out;
         }
-        batchedSets += sets.size();
-        largestBatch = Math.max(largestBatch, sets.size());
-        if (timeUp()) {
-            throw new StopSearch(StopSearch.Reason.TIME, "the time limit was reached after "
-                    + Math.round(elapsedSeconds()) + " s of search");
-        }
-        List<LesionScorer.Raced> raced = scorer.raceWithinBudget(sets, maxCorrectWhenCritical(), racing, reserve);
-        batches++;
+        boolean late = beginBatch(sets.size());
+        List<LesionScorer.Raced> raced = scorer.raceWithinBudget(sets, maxCorrectWhenCritical(), racing, keep(late));
         List<LesionScorer.Scored> exact = new ArrayList<>();
         for (LesionScorer.Raced r : raced) {
             decisions++;
@@ -247,52 +224,70 @@ public final class SearchContext {
             } else {
                 racedDecisions++;
             }
-            if (!Double.isNaN(r.charged())) {
-                charged = Math.max(charged, r.charged());
-            }
+            charge(r.charged());
         }
         account(exact);
-        listener.scored(this);
-        if (raced.size() < sets.size()) {
-            throw new StopSearch(StopSearch.Reason.BUDGET, "the budget of " + (long) scorer.budget().limit()
-                    + " scored sets is spent");
-        }
+        endBatch(raced.size(), sets.size(), late);
         return raced;
     }
 
     /**
      * Brings each of {@code sets} to look {@code look} of the racing order and returns their progress there (see
      * {@link LesionScorer#advanceWithinBudget}); sets completed on the way go to the front and the trace. Racing must
-     * be on. Stops like {@link #score(List)} when the time or the budget is spent.
+     * be on. Stops like {@link #decideCritical} when the time or the budget is spent.
      */
     public List<LesionScorer.Progress> advance(List<RegionSet> sets, int look) {
         if (racing == null) {
             throw new IllegalStateException("advance needs racing on");
         }
-        batchedSets += sets.size();
-        largestBatch = Math.max(largestBatch, sets.size());
-        if (timeUp()) {
-            throw new StopSearch(StopSearch.Reason.TIME, "the time limit was reached after "
-                    + Math.round(elapsedSeconds()) + " s of search");
-        }
-        List<LesionScorer.Progress> progress = scorer.advanceWithinBudget(sets, look, racing, reserve);
-        batches++;
+        boolean late = beginBatch(sets.size());
+        List<LesionScorer.Progress> progress = scorer.advanceWithinBudget(sets, look, racing, keep(late));
         List<LesionScorer.Scored> exact = new ArrayList<>();
         for (LesionScorer.Progress p : progress) {
             if (p.complete()) {
                 exact.add(p.full());
             }
-            if (!Double.isNaN(p.charged())) {
-                charged = Math.max(charged, p.charged());
-            }
+            charge(p.charged());
         }
         account(exact);
-        listener.scored(this);
-        if (progress.size() < sets.size()) {
-            throw new StopSearch(StopSearch.Reason.BUDGET, "the budget of " + (long) scorer.budget().limit()
-                    + " scored sets is spent");
-        }
+        endBatch(progress.size(), sets.size(), late);
         return progress;
+    }
+
+    /** Counts a batch of {@code size} sets asked for; returns whether the time is already spent. */
+    private boolean beginBatch(int size) {
+        batchedSets += size;
+        largestBatch = Math.max(largestBatch, size);
+        return timeUp();
+    }
+
+    /** The budget to leave unspent: the reserve, or all of it once the time is spent (only paid progress is used). */
+    private double keep(boolean late) {
+        return late ? Double.POSITIVE_INFINITY : reserve;
+    }
+
+    private void charge(double spentWhenPaid) {
+        if (!Double.isNaN(spentWhenPaid)) {
+            charged = Math.max(charged, spentWhenPaid);
+        }
+    }
+
+    /** Ends a batch that answered {@code got} of {@code asked} sets, stopping the search when it fell short. */
+    private void endBatch(int got, int asked, boolean late) {
+        batches++;
+        if (!late) {
+            listener.scored(this);
+        }
+        if (got < asked) {
+            if (late) {
+                throw new StopSearch(StopSearch.Reason.TIME, "the time limit was reached after "
+                        + Math.round(elapsedSeconds()) + " s of search");
+            }
+            throw new StopSearch(StopSearch.Reason.BUDGET, reserve > 0
+                    ? "the search's share of the budget of " + (long) scorer.budget().limit() + " scored sets is spent ("
+                    + (long) reserve + " kept for certificates)"
+                    : "the budget of " + (long) scorer.budget().limit() + " scored sets is spent");
+        }
     }
 
     /** The number of looks of the racing order (racing must be on). */

@@ -205,7 +205,13 @@ public final class LesionScorer {
      * of the same run).
      */
     public List<Scored> scoreWithinBudget(List<RegionSet> sets, double keep) {
-        return score(sets, true, Math.max(0, budget.remaining() - keep));
+        return score(sets, true, available(keep));
+    }
+
+    /** What the budget allows beyond leaving {@code keep} unspent (0 when {@code keep} is all of it, even unlimited). */
+    private double available(double keep) {
+        double remaining = budget.remaining();
+        return keep >= remaining ? 0 : remaining - keep;
     }
 
     /**
@@ -437,7 +443,7 @@ public final class LesionScorer {
         for (Scored sc : resolveRaces(sets, open, keep)) {
             out.put(sc.set(), Raced.of(sc, sc.score().correct() <= threshold));
         }
-        double available = Math.max(0, budget.remaining() - keep);
+        double available = available(keep);
         List<RegionSet> racing = new ArrayList<>();
         for (RegionSet s : open) {
             int j = verdictLook(active.get(s), rule);
@@ -502,7 +508,7 @@ public final class LesionScorer {
         for (Scored sc : resolveRaces(sets, open, keep)) {
             out.put(sc.set(), progress(sc));
         }
-        double available = Math.max(0, budget.remaining() - keep);
+        double available = available(keep);
         List<RegionSet> behind = new ArrayList<>();
         for (RegionSet s : open) {
             if (active.get(s).paid >= raceLooks[look]) {
