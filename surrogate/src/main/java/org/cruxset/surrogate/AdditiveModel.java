@@ -16,6 +16,8 @@ public final class AdditiveModel implements SurrogateModel {
     private double[][] chol;
     private double noise;
     private int fitted;
+    private long drawSeed;
+    private final java.util.Map<Integer, double[]> drawn = new java.util.HashMap<>();
 
     /** A model over {@code regions} regions with prior precision {@code ridge} (> 0) on each region's effect. */
     public AdditiveModel(int regions, double ridge) {
@@ -62,6 +64,37 @@ public final class AdditiveModel implements SurrogateModel {
         }
         noise = rss / Math.max(1, x.length - 1);
         fitted = x.length;
+        drawn.clear();
+        drawSeed = java.util.Arrays.hashCode(y) * 31L + x.length;
+    }
+
+    /**
+     * Draw {@code k} of the posterior of the coefficients, β + σ̂ L⁻ᵀ z (M = L Lᵀ, z standard normal from a seed fixed
+     * by the fit and k), evaluated on {@code sets}.
+     */
+    @Override
+    public double[] draw(List<RegionSet> sets, int k) {
+        if (beta == null) {
+            throw new IllegalStateException("the model has not been fitted");
+        }
+        double[] b = drawn.computeIfAbsent(k, key -> {
+            java.util.SplittableRandom rng = new java.util.SplittableRandom(drawSeed * 0x9E3779B97F4A7C15L + key);
+            double[] z = new double[beta.length];
+            for (int j = 0; j < z.length; j++) {
+                z[j] = rng.nextGaussian() * Math.sqrt(noise);
+            }
+            double[] u = Linear.backward(chol, z);
+            double[] out = beta.clone();
+            for (int j = 0; j < out.length; j++) {
+                out[j] += u[j];
+            }
+            return out;
+        });
+        double[] out = new double[sets.size()];
+        for (int i = 0; i < out.length; i++) {
+            out[i] = Linear.dot(row(sets.get(i)), b);
+        }
+        return out;
     }
 
     @Override

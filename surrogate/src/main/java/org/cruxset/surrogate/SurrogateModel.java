@@ -14,6 +14,13 @@ public interface SurrogateModel {
     /** Predictive means and standard deviations of {@code sets}. */
     Prediction predict(List<RegionSet> sets);
 
+    /**
+     * Draw {@code k} of the fitted model's posterior (or of its members), evaluated on {@code sets}: one coherent
+     * function of the set for every {@code k}, as Thompson sampling needs (the same k gives the same function until
+     * the next fit).
+     */
+    double[] draw(List<RegionSet> sets, int k);
+
     /** One line for reports: the model, its features and what a fit cost. */
     String describe();
 

@@ -21,8 +21,6 @@ import java.util.Iterator;
 import java.util.List;
 import java.util.SplittableRandom;
 import java.util.random.RandomGenerator;
-import org.cruxset.scoring.eval.LesionScorer;
-import org.cruxset.scoring.eval.SetScore;
 import org.cruxset.scoring.lesion.RegionSet;
 import org.cruxset.search.SearchContext;
 import org.cruxset.search.StopSearch;
@@ -64,10 +62,7 @@ public final class GeneticStrategy implements Strategy {
             if (pool < 0) {
                 throw new IllegalArgumentException("pool must be at least 0, found " + pool);
             }
-            if (!List.of("excess", "probability", "mixed").contains(grading)) {
-                throw new IllegalArgumentException("grading must be excess, probability or mixed, found '" + grading
-                        + "'");
-            }
+            new Grading(grading);
             if (!(supersetFactor >= 1)) {
                 throw new IllegalArgumentException("supersetFactor must be at least 1, found " + supersetFactor);
             }
@@ -111,7 +106,7 @@ public final class GeneticStrategy implements Strategy {
         int n = ctx.regions();
         RankedPool pool = RankedPool.of(ctx, given, settings.pool(), settings.focus());
         List<Integer> order = pool.order();
-        int limit = ctx.maxCorrectWhenCritical();
+        Grading grading = new Grading(settings.grading());
         RegionSet superset = settings.supersetShare() > 0 ? pool.criticalSuperset(ctx, settings.supersetFactor()) : null;
         Evaluator<BitGene, Vec<double[]>> evaluator = population -> {
             List<Phenotype<BitGene, Vec<double[]>>> all = new ArrayList<>(population.asList());
@@ -123,7 +118,7 @@ public final class GeneticStrategy implements Strategy {
                     at.add(i);
                 }
             }
-            double[] grades = grades(ctx, batch, limit);
+            double[] grades = grading.grades(ctx, batch);
             for (int j = 0; j < at.size(); j++) {
                 int size = batch.get(j).size();
                 all.set(at.get(j), all.get(at.get(j)).withFitness(Nsga2.minimise((double) size / n, grades[j])));
@@ -174,62 +169,6 @@ public final class GeneticStrategy implements Strategy {
             }
         }
         return g;
-    }
-
-    /**
-     * The graded distances of {@code batch}: from whole scores, or with racing on, from whole scores for the sets a
-     * race says may be critical and from the raced samples for the rest (their distance estimated from the samples
-     * scored so far; critical sets, the only ones a search reports, are always scored whole).
-     */
-    private double[] grades(SearchContext ctx, List<RegionSet> batch, int limit) {
-        double[] out = new double[batch.size()];
-        if (ctx.racing() == null) {
-            List<LesionScorer.Scored> scored = ctx.score(batch);
-            for (int j = 0; j < batch.size(); j++) {
-                out[j] = grade(ctx, scored.get(j).score(), batch.get(j).size(), limit);
-            }
-            return out;
-        }
-        List<LesionScorer.Raced> raced = ctx.decideCritical(batch);
-        List<RegionSet> maybe = new ArrayList<>();
-        for (LesionScorer.Raced r : raced) {
-            if (r.atMost() && !r.exact()) {
-                maybe.add(r.set());
-            }
-        }
-        java.util.Map<RegionSet, SetScore> whole = new java.util.HashMap<>();
-        for (LesionScorer.Scored s : ctx.score(maybe)) {
-            whole.put(s.set(), s.score());
-        }
-        int n = ctx.intact().n();
-        for (int j = 0; j < batch.size(); j++) {
-            LesionScorer.Raced r = raced.get(j);
-            SetScore s = r.exact() ? r.full().score() : whole.get(r.set());
-            if (s != null) {
-                out[j] = grade(ctx, s, batch.get(j).size(), limit);
-            } else {
-                double excess = Math.max(0, (double) r.correct() / r.samples() * n - limit) / n;
-                out[j] = graded(excess, r.probabilitySum() / r.samples());
-            }
-        }
-        return out;
-    }
-
-    /** The graded distance from criticality of a score (0 for a critical set). */
-    private double grade(SearchContext ctx, SetScore s, int size, int limit) {
-        if (size > 0 && ctx.critical(s)) {
-            return 0;
-        }
-        return graded(Math.max(0, s.correct() - limit) / (double) s.n(), s.meanTrueClassProbability());
-    }
-
-    /** The graded distance of a non-critical set with {@code excess} correct share above the limit and mean {@code p}. */
-    private double graded(double excess, double p) {
-        return switch (settings.grading()) {
-            case "excess" -> excess + 1e-3 * p;
-            case "probability" -> p + 1e-3;
-            default -> 0.5 * excess + 0.5 * p + 1e-3;
-        };
     }
 
     /** Advances the stream, passing a budget or time stop through whatever Jenetics wrapped it in. */
