@@ -397,6 +397,27 @@ public final class SearchContext {
                 EvaluationKey.setHex(pool), maxSize, true, List.of()));
     }
 
+    /** Records a surrogate fit in the store (nothing without one; a resumed run's replay writes nothing twice). */
+    public void recordFit(String purpose, int fit, int trainingSets, String model, double seconds) {
+        if (records != null) {
+            records.surrogateFit(purpose, fit, trainingSets, model, seconds);
+        }
+    }
+
+    /** Records how fit {@code fit} predicted the batch scored after it. */
+    public void recordFitQuality(String purpose, int fit, int sets, double r2, double spearman, double coverage) {
+        if (records != null) {
+            records.surrogateQuality(purpose, fit, sets, r2, spearman, coverage);
+        }
+    }
+
+    /** Records skipped sets in the store's skip log (positions already stored are ignored). */
+    public void recordSkips(List<SearchRecords.Skip> skips) {
+        if (records != null) {
+            records.skips(skips);
+        }
+    }
+
     /** Whether {@code set} carries an irreducibility certificate from this run. */
     public boolean isCertified(RegionSet set) {
         return certified.containsKey(set);

@@ -16,4 +16,12 @@ public interface Strategy {
 
     /** Runs the strategy; returns when it is done. */
     void run(SearchContext ctx);
+
+    /**
+     * Lines for the report of a run after {@link #run} (stopped or not), e.g. what a surrogate cost and how well it
+     * predicted; none by default.
+     */
+    default java.util.List<String> notes() {
+        return java.util.List.of();
+    }
 }

@@ -25,8 +25,9 @@ import org.tribuo.regression.rtree.impurity.MeanSquaredError;
  * A random forest of regression trees (Tribuo's {@code RandomForestTrainer} over {@code CARTRegressionTrainer}: each
  * tree on a bootstrap sample, a share {@code featureFraction} of the regions tried at each split), the mean of the
  * trees as the prediction and their spread as the uncertainty (sd across members, so a set unlike any seen gets the
- * trees' disagreement, not a calibrated interval); draw k is tree k. Features: one 0/1 indicator per region. Refits
- * from scratch; seeded.
+ * trees' disagreement, not a calibrated interval); draw k is tree k. Features: one 0/1 indicator per region and the
+ * set's size over N (without it, a tree of indicators sees a set far smaller than any it was trained on only
+ * through the few regions it splits on, and predicts it like its neighbours). Refits from scratch; seeded.
  */
 public final class ForestModel implements SurrogateModel {
     private static final String OUTPUT = "score";
@@ -51,11 +52,12 @@ public final class ForestModel implements SurrogateModel {
         this.maxDepth = maxDepth;
         this.featureFraction = (float) featureFraction;
         this.seed = seed;
-        this.names = new String[regions];
+        this.names = new String[regions + 1];
         int width = Integer.toString(regions - 1).length();
         for (int i = 0; i < regions; i++) {
             names[i] = String.format(Locale.ROOT, "r%0" + width + "d", i);
         }
+        names[regions] = "size";
         // Tribuo logs every trained tree at INFO; a search fits many forests.
         Logger.getLogger("org.tribuo").setLevel(Level.WARNING);
     }
@@ -64,10 +66,11 @@ public final class ForestModel implements SurrogateModel {
         if (s.universe() != regions) {
             throw new IllegalArgumentException("set over " + s.universe() + " regions, the model over " + regions);
         }
-        double[] v = new double[regions];
+        double[] v = new double[regions + 1];
         for (int p : s.positions()) {
             v[p] = 1;
         }
+        v[regions] = (double) s.size() / regions;
         return new ArrayExample<>(new Regressor(OUTPUT, y), names, v);
     }
 

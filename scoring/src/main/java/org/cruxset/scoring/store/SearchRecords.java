@@ -145,6 +145,117 @@ public final class SearchRecords {
         });
     }
 
+    /**
+     * One set a screened search skipped: where in the run's skips, the set, the surrogate's prediction, its sd and
+     * the bound the decision used, the reason, and for a spot-checked skip the decoder's value and verdict.
+     */
+    public record Skip(int position, String setHex, int universe, int size, double predicted, double sd, double bound,
+                       String reason, boolean spotChecked, Double checkedValue, Boolean checkedCritical) {
+    }
+
+    /**
+     * Records a surrogate fit (the first record of a fit number wins: a resumed run's replay refits and writes
+     * nothing twice).
+     */
+    public void surrogateFit(String purpose, int fit, int trainingSets, String model, double seconds) {
+        store.inTransaction("record a surrogate fit of run " + run.id(), c -> {
+            try (PreparedStatement ps = c.prepareStatement("INSERT INTO surrogate_fits (run_id, purpose, fit, "
+                    + "training_sets, model, seconds) VALUES (?, ?, ?, ?, ?, ?) ON CONFLICT DO NOTHING")) {
+                ps.setLong(1, run.id());
+                ps.setString(2, purpose);
+                ps.setInt(3, fit);
+                ps.setInt(4, trainingSets);
+                ps.setString(5, model);
+                ps.setDouble(6, seconds);
+                ps.executeUpdate();
+            }
+            return null;
+        });
+    }
+
+    /** Records how fit {@code fit} predicted the {@code sets} sets scored after it. */
+    public void surrogateQuality(String purpose, int fit, int sets, double r2, double spearman, double coverage) {
+        store.inTransaction("record a surrogate's quality for run " + run.id(), c -> {
+            try (PreparedStatement ps = c.prepareStatement("UPDATE surrogate_fits SET next_sets = ?, r2 = ?, "
+                    + "spearman = ?, coverage = ? WHERE run_id = ? AND purpose = ? AND fit = ? AND next_sets IS NULL")) {
+                ps.setInt(1, sets);
+                setNullable(ps, 2, r2);
+                setNullable(ps, 3, spearman);
+                setNullable(ps, 4, coverage);
+                ps.setLong(5, run.id());
+                ps.setString(6, purpose);
+                ps.setInt(7, fit);
+                ps.executeUpdate();
+            }
+            return null;
+        });
+    }
+
+    /** Appends skips (a skip at a position already stored is ignored). */
+    public void skips(List<Skip> skips) {
+        if (skips.isEmpty()) {
+            return;
+        }
+        store.inTransaction("record the skips of run " + run.id(), c -> {
+            try (PreparedStatement ps = c.prepareStatement("INSERT INTO search_skips (run_id, position, set_hex, "
+                    + "universe, set_size, predicted, predicted_sd, bound, reason, spot_checked, checked_value, "
+                    + "checked_critical) VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?) ON CONFLICT DO NOTHING")) {
+                for (Skip k : skips) {
+                    ps.setLong(1, run.id());
+                    ps.setInt(2, k.position());
+                    ps.setString(3, k.setHex());
+                    ps.setInt(4, k.universe());
+                    ps.setInt(5, k.size());
+                    ps.setDouble(6, k.predicted());
+                    ps.setDouble(7, k.sd());
+                    ps.setDouble(8, k.bound());
+                    ps.setString(9, k.reason());
+                    ps.setInt(10, k.spotChecked() ? 1 : 0);
+                    setNullable(ps, 11, k.checkedValue() == null ? Double.NaN : k.checkedValue());
+                    if (k.checkedCritical() == null) {
+                        ps.setNull(12, Types.INTEGER);
+                    } else {
+                        ps.setInt(12, k.checkedCritical() ? 1 : 0);
+                    }
+                    ps.addBatch();
+                }
+                ps.executeBatch();
+            }
+            return null;
+        });
+    }
+
+    /** The skips of this run, in order. */
+    public List<Skip> skips() {
+        return store.inTransaction("read the skips of run " + run.id(), c -> {
+            List<Skip> out = new ArrayList<>();
+            try (PreparedStatement ps = c.prepareStatement("SELECT position, set_hex, universe, set_size, predicted, "
+                    + "predicted_sd, bound, reason, spot_checked, checked_value, checked_critical FROM search_skips "
+                    + "WHERE run_id = ? ORDER BY position")) {
+                ps.setLong(1, run.id());
+                try (ResultSet r = ps.executeQuery()) {
+                    while (r.next()) {
+                        double v = r.getDouble(10);
+                        Double value = r.wasNull() ? null : v;
+                        int k = r.getInt(11);
+                        Boolean critical = r.wasNull() ? null : k == 1;
+                        out.add(new Skip(r.getInt(1), r.getString(2), r.getInt(3), r.getInt(4), r.getDouble(5),
+                                r.getDouble(6), r.getDouble(7), r.getString(8), r.getInt(9) == 1, value, critical));
+                    }
+                }
+            }
+            return out;
+        });
+    }
+
+    private static void setNullable(PreparedStatement ps, int index, double v) throws SQLException {
+        if (Double.isNaN(v)) {
+            ps.setNull(index, Types.REAL);
+        } else {
+            ps.setDouble(index, v);
+        }
+    }
+
     /** Stores a certificate and returns its id. */
     public long certificate(Certificate cert) {
         return store.inTransaction("record a certificate of run " + run.id(), c -> {

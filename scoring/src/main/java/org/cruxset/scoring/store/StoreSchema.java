@@ -219,8 +219,45 @@ final class StoreSchema {
               PRIMARY KEY (run_id, partial_id)
             ) WITHOUT ROWID""");
 
+    /**
+     * Version 5: surrogate models fitted by a search (each fit's training size, model, seconds, and how it predicted
+     * the batch scored after it) and the sets a screened search skipped without a decoder call (the prediction they
+     * got, why, and for the seeded share spot-checked with the decoder, what the check found).
+     */
+    private static final List<String> V5 = List.of(
+            """
+            CREATE TABLE surrogate_fits (
+              run_id        INTEGER NOT NULL REFERENCES runs (id),
+              purpose       TEXT    NOT NULL CHECK (purpose IN ('surrogate', 'screen')),
+              fit           INTEGER NOT NULL CHECK (fit >= 1),
+              training_sets INTEGER NOT NULL,
+              model         TEXT    NOT NULL,
+              seconds       REAL    NOT NULL,
+              next_sets     INTEGER,
+              r2            REAL,
+              spearman      REAL,
+              coverage      REAL,
+              PRIMARY KEY (run_id, purpose, fit)
+            ) WITHOUT ROWID""",
+            """
+            CREATE TABLE search_skips (
+              run_id           INTEGER NOT NULL REFERENCES runs (id),
+              position         INTEGER NOT NULL,
+              set_hex          TEXT    NOT NULL,
+              universe         INTEGER NOT NULL,
+              set_size         INTEGER NOT NULL,
+              predicted        REAL    NOT NULL,
+              predicted_sd     REAL    NOT NULL,
+              bound            REAL    NOT NULL,
+              reason           TEXT    NOT NULL,
+              spot_checked     INTEGER NOT NULL CHECK (spot_checked IN (0, 1)),
+              checked_value    REAL,
+              checked_critical INTEGER CHECK (checked_critical IN (0, 1)),
+              PRIMARY KEY (run_id, position)
+            ) WITHOUT ROWID""");
+
     /** Step v − 1 brings a store to version v. */
-    static final List<List<String>> STEPS = List.of(V1, V2, V3, V4);
+    static final List<List<String>> STEPS = List.of(V1, V2, V3, V4, V5);
 
     /** The version this code writes and reads. */
     static final int VERSION = STEPS.size();
@@ -228,7 +265,7 @@ final class StoreSchema {
     /** The tables of the current version, for messages about files that are not stores. */
     static final String TABLES = "schema_version, runs, datasets, dataset_samples, evaluations, run_evaluations, "
             + "part_splits, part_subjects, searches, search_trace, search_front, certificates, certificate_subsets, "
-            + "search_results, partial_evaluations, run_partials";
+            + "search_results, partial_evaluations, run_partials, surrogate_fits, search_skips";
 
     private StoreSchema() {
     }

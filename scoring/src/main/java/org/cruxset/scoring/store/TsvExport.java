@@ -40,7 +40,7 @@ public final class TsvExport {
     public static final List<String> FILES = List.of("runs.tsv", "evaluations.tsv", "run_evaluations.tsv",
             "outcomes.tsv", "datasets.tsv", "part_splits.tsv", "part_subjects.tsv", "searches.tsv", "search_trace.tsv",
             "search_front.tsv", "search_results.tsv", "certificates.tsv", "certificate_subsets.tsv",
-            "partial_evaluations.tsv", "run_partials.tsv");
+            "partial_evaluations.tsv", "run_partials.tsv", "surrogate_fits.tsv", "search_skips.tsv");
 
     /** The search tables of schema version 3, each exported whole, ordered by these columns. */
     private static final List<String[]> SEARCH_TABLES = List.of(
@@ -79,6 +79,9 @@ public final class TsvExport {
                 // Racing (version 4): partial outcomes are written as space-separated values in race order.
                 writeWhole(c, version >= 4, "partial_evaluations", "id", outDir.resolve("partial_evaluations.tsv"));
                 writeWhole(c, version >= 4, "run_partials", "run_id, partial_id", outDir.resolve("run_partials.tsv"));
+                // Surrogates (version 5): each fit with its quality, and the sets a screen skipped.
+                writeWhole(c, version >= 5, "surrogate_fits", "run_id, purpose, fit", outDir.resolve("surrogate_fits.tsv"));
+                writeWhole(c, version >= 5, "search_skips", "run_id, position", outDir.resolve("search_skips.tsv"));
             } finally {
                 s.execute("ROLLBACK");
             }

@@ -19,23 +19,28 @@ import org.cruxset.search.strategy.GrowStrategy;
 import org.cruxset.search.strategy.LocalStrategy;
 import org.cruxset.search.strategy.RandomStrategy;
 import org.cruxset.search.strategy.RankedStrategy;
+import org.cruxset.search.strategy.SurrogateFits;
+import org.cruxset.search.strategy.SurrogateScreen;
+import org.cruxset.search.strategy.SurrogateStrategy;
 
 /**
  * The search benchmark: strategies run on {@link PlantedProblem} instances (one per seed, each run in a fresh store,
  * through the real scorer, store and default criterion) at given budgets; per strategy and budget it reports the
  * success rate (the proven minimum size reached), the median best critical size, the median sets charged to reach it,
  * how often the result contains a named trap, and the median budget spent in all (sample-evaluations = sets × the
- * search part's samples) and wall time. A strategy name ending in {@code ~race} runs it with racing.
+ * search part's samples) and wall time. A strategy name with {@code ~race} runs it with racing, with {@code ~screen}
+ * (genetic) through a surrogate screen.
  */
 public final class SearchSuite {
     /** The strategies of the suite; later strategies join this list. */
     public static final List<String> STRATEGIES = List.of("random", "grow", "grow+prune", "ranked+prune", "genetic",
-            "local");
+            "local", "surrogate", "genetic~screen");
 
     /** One run: its strategy, seed, budget, best critical size (−1: none), sets to reach it, trapped, the proof. */
     public record Run(String strategy, long seed, long budget, int bestSize, double chargedToBest, boolean trapped,
                       PlantedProblem.Proof proof, int minimum, double charged, long sampleEvaluations,
-                      double seconds, long decisions, long racedDecisions) {
+                      double seconds, long decisions, long racedDecisions, int fits, double fitSeconds,
+                      long candidates, long skipped, long spotChecked, long falseSkips) {
         /** Whether the run reached the proven minimum size. */
         public boolean success() {
             return bestSize == minimum;
@@ -44,7 +49,53 @@ public final class SearchSuite {
 
     /** The summary of one strategy at one budget. */
     public record Row(String strategy, long budget, int runs, int successes, double medianBest, double medianSetsToBest,
-                      int trapped, double medianSampleEvaluations, double medianSeconds, double racedShare) {
+                      int trapped, double medianSampleEvaluations, double medianSeconds, double racedShare,
+                      double medianFits, double medianFitSeconds, long candidates, long skipped, long spotChecked,
+                      long falseSkips) {
+    }
+
+    /**
+     * A strategy against a baseline on the same seeds and budget: per seed, the sets charged until the strategy first
+     * reached the baseline's best critical size (its sets to best when it reached that size or a smaller one;
+     * infinite when it never did), and their median beside the baseline's.
+     */
+    public record Paired(String strategy, String baseline, long budget, double[] setsToBaselineBest,
+                         double[] baselineSetsToBest, double median, double baselineMedian) {
+        /** The ratio of the medians (strategy over baseline). */
+        public double ratio() {
+            return median / baselineMedian;
+        }
+    }
+
+    /** {@code strategy}'s runs paired with {@code baseline}'s by seed at each budget they share. */
+    public static List<Paired> paired(List<Run> runs, String strategy, String baseline) {
+        List<Paired> out = new ArrayList<>();
+        java.util.TreeSet<Long> budgets = new java.util.TreeSet<>();
+        for (Run r : runs) {
+            budgets.add(r.budget());
+        }
+        for (long b : budgets) {
+            List<Double> mine = new ArrayList<>();
+            List<Double> theirs = new ArrayList<>();
+            for (Run base : runs) {
+                if (!base.strategy().equals(baseline) || base.budget() != b || base.bestSize() < 0) {
+                    continue;
+                }
+                for (Run r : runs) {
+                    if (r.strategy().equals(strategy) && r.budget() == b && r.seed() == base.seed()) {
+                        mine.add(r.bestSize() >= 0 && r.bestSize() <= base.bestSize() ? r.chargedToBest()
+                                : Double.POSITIVE_INFINITY);
+                        theirs.add(base.chargedToBest());
+                    }
+                }
+            }
+            if (!mine.isEmpty()) {
+                double[] m = mine.stream().mapToDouble(Double::doubleValue).toArray();
+                double[] t = theirs.stream().mapToDouble(Double::doubleValue).toArray();
+                out.add(new Paired(strategy, baseline, b, m, t, median(m), median(t)));
+            }
+        }
+        return out;
     }
 
     private SearchSuite() {
@@ -52,13 +103,15 @@ public final class SearchSuite {
 
     /** The strategy behind a suite name, and whether its best sets are pruned afterwards. */
     static Strategy strategy(String name, SearchConfig settings) {
-        return switch (name.replace("~race", "")) {
+        SurrogateScreen screen = name.contains("~screen") ? new SurrogateScreen(settings.screen()) : null;
+        return switch (name.replace("~race", "").replace("~screen", "")) {
             case "random" -> new RandomStrategy();
             case "grow", "grow+prune" -> new GrowStrategy(false, false);
             case "grow-lazy+prune" -> new GrowStrategy(false, true);
             case "ranked+prune" -> new RankedStrategy(null);
             case "local" -> new LocalStrategy(settings.local(), null);
-            case "genetic" -> new GeneticStrategy(settings.genetic(), null);
+            case "genetic" -> new GeneticStrategy(settings.genetic(), null, screen);
+            case "surrogate" -> new SurrogateStrategy(settings.surrogate(), null);
             default -> throw new IllegalArgumentException("unknown suite strategy '" + name + "', expected one of "
                     + STRATEGIES);
         };
@@ -74,13 +127,14 @@ public final class SearchSuite {
                 Parts.DEFAULT_SEED, Parts.DEFAULT_CONFIRM);
         try (Decoder decoder = p.decoder(); ScoringSession session = ScoringSession.open(decoder, p.cohort(), settings)) {
             PlantedProblem.Proof proof = p.proof(PlantedProblem.ids(session.inputs().batch()), criterion);
-            String base = strategy.replace("~race", "");
-            boolean race = !base.equals(strategy);
+            String base = strategy.replace("~race", "").replace("~screen", "");
+            boolean race = strategy.contains("~race");
             boolean prune = base.endsWith("+prune") || base.equals("random") || base.equals("genetic")
-                    || base.equals("local");
+                    || base.equals("local") || base.equals("surrogate");
             long t0 = System.nanoTime();
             long[] decisions = new long[2];
-            SearchRun.Result r = SearchRun.run(session, strategy(strategy, strategies),
+            Strategy chosen = strategy(strategy, strategies);
+            SearchRun.Result r = SearchRun.run(session, chosen,
                     new SearchRun.Settings(Double.POSITIVE_INFINITY, null, seed, prune, 5,
                             SearchRun.Settings.DEFAULT_RESERVE, race), ctx -> {
                         decisions[0] = ctx.decisions();
@@ -97,8 +151,14 @@ public final class SearchSuite {
                 }
                 trapped |= all;
             }
+            SurrogateFits fits = chosen instanceof SurrogateStrategy st ? st.fits()
+                    : chosen instanceof GeneticStrategy g && g.screen() != null ? g.screen().fits() : null;
+            long[] screen = chosen instanceof GeneticStrategy g && g.screen() != null ? g.screen().counts()
+                    : new long[4];
             return new Run(strategy, seed, budget, r.bestSize(), r.chargedAtBest(), trapped, proof, p.minimumSize(),
-                    r.charged(), Math.round(r.charged() * n), seconds, decisions[0], decisions[1]);
+                    r.charged(), Math.round(r.charged() * n), seconds, decisions[0], decisions[1],
+                    fits == null ? 0 : fits.fits(), fits == null ? 0 : fits.seconds(), screen[0], screen[1], screen[2],
+                    screen[3]);
         }
     }
 
@@ -108,6 +168,12 @@ public final class SearchSuite {
      */
     public static List<Row> run(PlantedProblem.Config config, SearchConfig settings, List<String> strategies,
                                 List<Long> budgets, List<Long> seeds, Path dir, PrintWriter log) {
+        return run(config, settings, strategies, budgets, seeds, dir, log, new ArrayList<>());
+    }
+
+    /** As {@link #run(PlantedProblem.Config, SearchConfig, List, List, List, Path, PrintWriter)}, adding every run to {@code sink}. */
+    public static List<Row> run(PlantedProblem.Config config, SearchConfig settings, List<String> strategies,
+                                List<Long> budgets, List<Long> seeds, Path dir, PrintWriter log, List<Run> sink) {
         List<Row> rows = new ArrayList<>();
         int n = 0;
         for (String s : strategies) {
@@ -119,6 +185,7 @@ public final class SearchSuite {
                         throw new IllegalStateException("the planted minimum of seed " + seed + " is not proven: " + r.proof());
                     }
                     runs.add(r);
+                    sink.add(r);
                     if (log != null) {
                         log.printf("  %-14s budget %6d seed %3d: best critical size %s%s%s%n", s, b, seed,
                                 r.bestSize() < 0 ? "none" : r.bestSize(),
@@ -153,7 +220,11 @@ public final class SearchSuite {
         long decisions = runs.stream().mapToLong(Run::decisions).sum();
         long raced = runs.stream().mapToLong(Run::racedDecisions).sum();
         return new Row(strategy, budget, runs.size(), ok, median(best), tb.length == 0 ? Double.NaN : median(tb), trapped,
-                median(evaluations), median(seconds), decisions == 0 ? 0 : (double) raced / decisions);
+                median(evaluations), median(seconds), decisions == 0 ? 0 : (double) raced / decisions,
+                median(runs.stream().mapToDouble(Run::fits).toArray()),
+                median(runs.stream().mapToDouble(Run::fitSeconds).toArray()),
+                runs.stream().mapToLong(Run::candidates).sum(), runs.stream().mapToLong(Run::skipped).sum(),
+                runs.stream().mapToLong(Run::spotChecked).sum(), runs.stream().mapToLong(Run::falseSkips).sum());
     }
 
     /** The median (mean of the middle two for an even count); infinities sort last. */

@@ -133,6 +133,10 @@ public final class BenchCommand implements Callable<Integer> {
         }
     }
 
+    private static String fmtSets(double v) {
+        return Double.isInfinite(v) ? "never" : String.format(Locale.ROOT, "%.0f", v);
+    }
+
     private int searchSuite() throws java.io.IOException {
         PrintWriter out = spec.commandLine().getOut();
         if (seeds < 1) {
@@ -151,12 +155,14 @@ public final class BenchCommand implements Callable<Integer> {
         }
         java.nio.file.Path dir = java.nio.file.Files.createTempDirectory("cruxset-bench-search-");
         long t0 = System.nanoTime();
+        List<org.cruxset.search.bench.SearchSuite.Run> runs = new ArrayList<>();
         List<org.cruxset.search.bench.SearchSuite.Row> rows = org.cruxset.search.bench.SearchSuite.run(cfg,
                 org.cruxset.search.SearchConfig.read(config), strategies,
-                budgets, seedList, dir, out);
+                budgets, seedList, dir, out, runs);
         List<String[]> table = new ArrayList<>();
         table.add(new String[] {"strategy", "budget", "runs", "success rate", "median best size", "median sets to best",
-            "trapped", "median sample-evaluations", "median seconds", "raced decisions"});
+            "trapped", "median sample-evaluations", "median seconds", "raced decisions", "surrogate fits (median, s)",
+            "skipped (false skips / spot checks)"});
         for (org.cruxset.search.bench.SearchSuite.Row r : rows) {
             table.add(new String[] {r.strategy(), Long.toString(r.budget()), Integer.toString(r.runs()),
                 String.format(Locale.ROOT, "%d/%d", r.successes(), r.runs()),
@@ -164,11 +170,33 @@ public final class BenchCommand implements Callable<Integer> {
                 Double.isNaN(r.medianSetsToBest()) ? "-" : String.format(Locale.ROOT, "%.0f", r.medianSetsToBest()),
                 Integer.toString(r.trapped()), String.format(Locale.ROOT, "%.0f", r.medianSampleEvaluations()),
                 String.format(Locale.ROOT, "%.1f", r.medianSeconds()),
-                r.strategy().endsWith("~race") ? String.format(Locale.ROOT, "%.0f%%", 100 * r.racedShare()) : "-"});
+                r.strategy().contains("~race") ? String.format(Locale.ROOT, "%.0f%%", 100 * r.racedShare()) : "-",
+                r.medianFits() == 0 ? "-" : String.format(Locale.ROOT, "%.0f, %.1f s", r.medianFits(),
+                        r.medianFitSeconds()),
+                r.candidates() == 0 ? "-" : String.format(Locale.ROOT, "%.1f%% (%d / %d)",
+                        100.0 * r.skipped() / r.candidates(), r.falseSkips(), r.spotChecked())});
+        }
+        // Surrogate-assisted strategies against plain genetic with the same racing, paired by seed.
+        for (String s : strategies) {
+            String baseline = s.contains("~race") ? "genetic~race" : "genetic";
+            if (!strategies.contains(baseline) || !(s.startsWith("surrogate") || s.contains("~screen"))) {
+                continue;
+            }
+            for (org.cruxset.search.bench.SearchSuite.Paired pr
+                    : org.cruxset.search.bench.SearchSuite.paired(runs, s, baseline)) {
+                    out.printf(Locale.ROOT, "%s at budget %d: scored sets charged until %s's best size was "
+                                    + "first reached, median %s vs %.0f (ratio %s; per seed %s vs %s)%n", s, pr.budget(),
+                            baseline, fmtSets(pr.median()), pr.baselineMedian(),
+                            Double.isInfinite(pr.median()) ? "-" : String.format(Locale.ROOT, "%.2f", pr.ratio()),
+                            java.util.Arrays.toString(java.util.Arrays.stream(pr.setsToBaselineBest())
+                                    .mapToObj(BenchCommand::fmtSets).toArray()),
+                            java.util.Arrays.toString(java.util.Arrays.stream(pr.baselineSetsToBest())
+                                    .mapToObj(BenchCommand::fmtSets).toArray()));
+            }
         }
         // Racing against the same strategy without it, at the same budget.
         for (org.cruxset.search.bench.SearchSuite.Row raced : rows) {
-            if (!raced.strategy().endsWith("~race")) {
+            if (!raced.strategy().contains("~race")) {
                 continue;
             }
             for (org.cruxset.search.bench.SearchSuite.Row plain : rows) {

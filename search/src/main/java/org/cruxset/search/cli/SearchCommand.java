@@ -45,7 +45,9 @@ import picocli.CommandLine.Spec;
             "",
             "Strategies: grow (greedy addition), ranked (smallest critical prefix of a ranking), prune (backward "
                 + "elimination from a set), exhaustive (every subset of a pool by increasing size), random (random sets "
-                + "of every size: the floor). Unless --no-prune, the best critical sets found are pruned so each carries "
+                + "of every size: the floor), genetic (NSGA-II over set size and distance from criticality; --screen "
+                + "skips candidates a surrogate rules out), local (OptaPlanner local search), surrogate (rounds of "
+                + "fit a model of the score, optimise it, score the few best sets). Unless --no-prune, the best critical sets found are pruned so each carries "
                 + "an irreducibility certificate. Every reported set is re-scored on the confirmation part (not "
                 + "charged). Kill the run at any time: the same command resumes it and ends with the same result, each "
                 + "set paid once."})
@@ -66,7 +68,7 @@ public final class SearchCommand implements Callable<Integer> {
     ScoringOptions scoring;
 
     @Option(names = "--strategy", defaultValue = "grow", paramLabel = "NAME",
-            description = "grow, ranked, prune, exhaustive, random, genetic or local. Default: ${DEFAULT-VALUE}.")
+            description = "grow, ranked, prune, exhaustive, random, genetic, local or surrogate. Default: ${DEFAULT-VALUE}.")
     String strategy;
 
     @Option(names = "--budget", paramLabel = "N",
@@ -122,6 +124,12 @@ public final class SearchCommand implements Callable<Integer> {
                     + "(0 to 1; unused with --no-prune). Default: ${DEFAULT-VALUE}.")
     double reserve;
 
+    @Option(names = "--screen", description = "genetic: skip the decoder for candidates a surrogate predicts, with "
+            + "high confidence, not to be critical (they get the predicted score, flagged, and are never reported); "
+            + "a seeded share of the skips is spot-checked with the decoder and the false-skip rate reported. "
+            + "Settings: the config's screen section.")
+    boolean screen;
+
     @Option(names = "--race", negatable = true, defaultValue = "true", fallbackValue = "true",
             description = "Race decisions on the search part: score a set's samples a chunk at a time in a seeded "
                     + "order and stop once its verdict is settled (at most 1%% error, exact hypergeometric bounds); "
@@ -141,6 +149,10 @@ public final class SearchCommand implements Callable<Integer> {
         if (!(reserve >= 0 && reserve < 1)) {
             throw new CommandLine.ParameterException(spec.commandLine(), "--reserve must be at least 0 and below 1, found "
                     + reserve);
+        }
+        if (screen && !strategy.equalsIgnoreCase("genetic")) {
+            throw new CommandLine.ParameterException(spec.commandLine(), "--screen works with --strategy genetic, found '"
+                    + strategy + "'");
         }
         Instant deadline = until == null ? null : nextTime(until);
         Cohort c = cohort.read();
@@ -178,12 +190,20 @@ public final class SearchCommand implements Callable<Integer> {
             case "exhaustive" -> exhaustive(session, given);
             case "random" -> new RandomStrategy();
             case "genetic" -> new org.cruxset.search.strategy.GeneticStrategy(
-                    org.cruxset.search.SearchConfig.read(config).genetic(), given);
+                    org.cruxset.search.SearchConfig.read(config).genetic(), given, screen());
+            case "surrogate" -> new org.cruxset.search.strategy.SurrogateStrategy(
+                    org.cruxset.search.SearchConfig.read(config).surrogate(), given);
             case "local" -> new org.cruxset.search.strategy.LocalStrategy(
                     org.cruxset.search.SearchConfig.read(config).local(), given);
             default -> throw new CommandLine.ParameterException(spec.commandLine(), "--strategy must be grow, ranked, "
-                    + "prune, exhaustive, random, genetic or local, found '" + strategy + "'");
+                    + "prune, exhaustive, random, genetic, local or surrogate, found '" + strategy + "'");
         };
+    }
+
+    /** The screen of --screen (settings from the config's screen section), or null. */
+    private org.cruxset.search.strategy.SurrogateScreen screen() {
+        return screen ? new org.cruxset.search.strategy.SurrogateScreen(
+                org.cruxset.search.SearchConfig.read(config).screen()) : null;
     }
 
     private boolean signal() {
@@ -299,6 +319,9 @@ public final class SearchCommand implements Callable<Integer> {
                     p.monotoneAsSeen() ? "; monotone where scored"
                             : "; non-monotone where scored: " + String.join("; ", p.nonMonotone())
                             + " (a shorter critical prefix cannot be ruled out)");
+        }
+        for (String line : s.notes()) {
+            pw.println(line);
         }
         if (r.bestSize() < 0) {
             pw.println("No critical set was found. Raise the budget, try another strategy, or check the criterion.");

@@ -79,11 +79,31 @@ public final class GeneticStrategy implements Strategy {
 
     private final Settings settings;
     private final Ranking given;
+    private final SurrogateScreen screen;
 
     /** A genetic search with {@code settings}, seeded from {@code ranking} (single lesions when null). */
     public GeneticStrategy(Settings settings, Ranking ranking) {
+        this(settings, ranking, null);
+    }
+
+    /**
+     * A genetic search whose generations pass through {@code screen} (null: every new set is scored), see
+     * {@link SurrogateScreen}.
+     */
+    public GeneticStrategy(Settings settings, Ranking ranking, SurrogateScreen screen) {
         this.settings = settings;
         this.given = ranking;
+        this.screen = screen;
+    }
+
+    /** The screen, or null. */
+    public SurrogateScreen screen() {
+        return screen;
+    }
+
+    @Override
+    public List<String> notes() {
+        return screen == null ? List.of() : screen.notes();
     }
 
     @Override
@@ -98,7 +118,7 @@ public final class GeneticStrategy implements Strategy {
                 + settings.maxInitialSize() + ", generations=" + settings.generations() + ", patience="
                 + settings.patience() + ", restarts=" + settings.restarts() + ", grading=" + settings.grading()
                 + ", pool=" + settings.pool() + ", focus=" + settings.focus() + ", ranking="
-                + (given == null ? SingleLesion.SOURCE : "given");
+                + (given == null ? SingleLesion.SOURCE : "given") + (screen == null ? "" : ", " + screen.describe());
     }
 
     @Override
@@ -118,7 +138,7 @@ public final class GeneticStrategy implements Strategy {
                     at.add(i);
                 }
             }
-            double[] grades = grading.grades(ctx, batch);
+            double[] grades = screen == null ? grading.grades(ctx, batch) : screen.grades(ctx, grading, batch);
             for (int j = 0; j < at.size(); j++) {
                 int size = batch.get(j).size();
                 all.set(at.get(j), all.get(at.get(j)).withFitness(Nsga2.minimise((double) size / n, grades[j])));

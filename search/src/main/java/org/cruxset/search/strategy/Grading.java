@@ -35,17 +35,30 @@ public final class Grading {
     }
 
     /**
-     * The graded distances of {@code batch}: from whole scores, or with racing on, from whole scores for the sets a
-     * race says may be critical and from the raced samples for the rest (their distance estimated from the samples
-     * scored so far; critical sets, the only ones a search reports, are always scored whole).
+     * What is known of one set of a batch after {@link #measure}: its whole score, or (raced, not critical) the
+     * correct samples and true-class probability sum over the {@code samples} scored so far.
      */
-    public double[] grades(SearchContext ctx, List<RegionSet> batch) {
-        int limit = ctx.maxCorrectWhenCritical();
-        double[] out = new double[batch.size()];
+    public record Measured(RegionSet set, SetScore whole, int correct, int samples, double probabilitySum) {
+        /** The estimated share of correct samples of the whole search part. */
+        public double correctShare() {
+            return whole != null ? (double) whole.correct() / whole.n() : (double) correct / samples;
+        }
+
+        /** The estimated mean true-class probability. */
+        public double meanProbability() {
+            return whole != null ? whole.meanTrueClassProbability() : probabilitySum / samples;
+        }
+    }
+
+    /**
+     * Scores {@code batch}: whole, or with racing on, whole for the sets a race says may be critical and as far as the
+     * race went for the rest (critical sets, the only ones a search reports, are always scored whole).
+     */
+    public static List<Measured> measure(SearchContext ctx, List<RegionSet> batch) {
+        List<Measured> out = new ArrayList<>(batch.size());
         if (ctx.racing() == null) {
-            List<LesionScorer.Scored> scored = ctx.score(batch);
-            for (int j = 0; j < batch.size(); j++) {
-                out[j] = grade(ctx, scored.get(j).score(), batch.get(j).size());
+            for (LesionScorer.Scored s : ctx.score(batch)) {
+                out.add(new Measured(s.set(), s.score(), 0, 0, 0));
             }
             return out;
         }
@@ -60,18 +73,45 @@ public final class Grading {
         for (LesionScorer.Scored s : ctx.score(maybe)) {
             whole.put(s.set(), s.score());
         }
-        int n = ctx.intact().n();
-        for (int j = 0; j < batch.size(); j++) {
-            LesionScorer.Raced r = raced.get(j);
+        for (LesionScorer.Raced r : raced) {
             SetScore s = r.exact() ? r.full().score() : whole.get(r.set());
-            if (s != null) {
-                out[j] = grade(ctx, s, batch.get(j).size());
-            } else {
-                double excess = Math.max(0, (double) r.correct() / r.samples() * n - limit) / n;
-                out[j] = graded(excess, r.probabilitySum() / r.samples());
-            }
+            out.add(s != null ? new Measured(r.set(), s, 0, 0, 0)
+                    : new Measured(r.set(), null, r.correct(), r.samples(), r.probabilitySum()));
         }
         return out;
+    }
+
+    /** The graded distances of {@code batch} (see {@link #measure}). */
+    public double[] grades(SearchContext ctx, List<RegionSet> batch) {
+        List<Measured> measured = measure(ctx, batch);
+        double[] out = new double[batch.size()];
+        for (int j = 0; j < out.length; j++) {
+            out[j] = grade(ctx, measured.get(j));
+        }
+        return out;
+    }
+
+    /** The graded distance of a measured set (from its whole score when it has one). */
+    public double grade(SearchContext ctx, Measured m) {
+        if (m.whole() != null) {
+            return grade(ctx, m.whole(), m.set().size());
+        }
+        int n = ctx.intact().n();
+        double excess = Math.max(0, m.correctShare() * n - ctx.maxCorrectWhenCritical()) / n;
+        return graded(excess, m.meanProbability());
+    }
+
+    /**
+     * The signed margin of a measured set from the criterion's limit, in shares of the search part's samples:
+     * (correct − limit − ½) / n, negative exactly when the set is critical (estimated from the raced samples when the
+     * set was not scored whole).
+     */
+    public static double margin(SearchContext ctx, Measured m) {
+        int n = ctx.intact().n();
+        if (m.whole() != null && m.set().size() > 0 && ctx.critical(m.whole())) {
+            return Math.min(-0.5 / n, (m.whole().correct() - ctx.maxCorrectWhenCritical() - 0.5) / n);
+        }
+        return Math.max(0.5 / n, (m.correctShare() * n - ctx.maxCorrectWhenCritical() - 0.5) / n);
     }
 
     /** The graded distance from criticality of a whole score of a set of {@code size} regions (0 when critical). */

@@ -1,0 +1,285 @@
+package org.cruxset.search.strategy;
+
+import java.util.ArrayList;
+import java.util.Arrays;
+import java.util.List;
+import java.util.Locale;
+import java.util.SplittableRandom;
+import org.apache.commons.math3.distribution.BetaDistribution;
+import org.cruxset.scoring.lesion.RegionSet;
+import org.cruxset.scoring.store.EvaluationKey;
+import org.cruxset.scoring.store.SearchRecords;
+import org.cruxset.search.SearchContext;
+import org.cruxset.surrogate.SurrogateModel;
+
+/**
+ * Screening of a strategy's candidates by a surrogate of their graded distance from criticality ({@link Grading}: 0
+ * exactly for critical sets): a candidate whose lower predictive bound, mean − z·sd, lies above half the smallest
+ * non-critical grade seen is predicted with high confidence not to be critical, and is not sent to the decoder. It
+ * gets its predicted grade (never below that smallest non-critical grade, so it can never pass for critical), is
+ * flagged in the skip log of the store, and can never be reported: only scored sets reach the front. A seeded share
+ * {@code spotCheck} of the skips is scored anyway, and a check that finds a critical set is a false skip; the run's
+ * notes give the false-skip rate with its exact (Clopper–Pearson) 95% interval.
+ *
+ * <p>The model is fitted before every batch on the last {@code window} scored sets (none is skipped before
+ * {@code warmup} sets were scored), over the regions whose lesion varies among them; a candidate that lesions a region
+ * never lesioned there, or spares one always lesioned there, is outside what the model has seen and is always scored.
+ * Deterministic given the scores: a resumed run refits, skips and checks the same sets.
+ */
+public final class SurrogateScreen {
+    /** Settings of a screen. */
+    public record Settings(String model, double z, int warmup, int window, double spotCheck, int pairPool, int burnIn,
+                           int trees) {
+        public Settings {
+            if (!SurrogateFits.MODELS.contains(model)) {
+                throw new IllegalArgumentException("screen model must be one of " + SurrogateFits.MODELS + ", found '"
+                        + model + "'");
+            }
+            if (!(z > 0) || warmup < 1 || window < 10 || !(spotCheck >= 0 && spotCheck <= 1) || pairPool < 0
+                    || burnIn < 0 || trees < 2) {
+                throw new IllegalArgumentException("screen: z must be positive, warmup at least 1, window at least 10, "
+                        + "spotCheck within [0, 1], pairPool and burnIn at least 0, trees at least 2");
+            }
+        }
+
+        /** The defaults. */
+        public static Settings defaults() {
+            return new Settings("additive", 2.0, 200, 1500, 0.05, 0, 100, 30);
+        }
+
+        String describe() {
+            return String.format(Locale.ROOT, "screen model=%s, z=%s, warmup=%d, window=%d, spotCheck=%s", model, z,
+                    warmup, window, spotCheck);
+        }
+    }
+
+    private final Settings settings;
+    private final SurrogateFits fits;
+    private final List<RegionSet> seen = new ArrayList<>();
+    private final List<Double> grades = new ArrayList<>();
+    private SplittableRandom rng;
+    private long candidates;
+    private long skipped;
+    private long checked;
+    private long falseSkips;
+    private long unseen;
+    private int position;
+
+    /** A screen with {@code settings}. */
+    public SurrogateScreen(Settings settings) {
+        this.settings = settings;
+        this.fits = new SurrogateFits(settings.model(), settings.burnIn(), settings.trees(), "screen");
+    }
+
+    /** The settings in one line. */
+    public String describe() {
+        return settings.describe();
+    }
+
+    /**
+     * The graded distances of {@code batch}, scoring through the context only the candidates the screen does not skip
+     * (and the spot checks).
+     */
+    public double[] grades(SearchContext ctx, Grading grading, List<RegionSet> batch) {
+        if (rng == null) {
+            rng = ctx.random("screen");
+        }
+        candidates += batch.size();
+        if (seen.size() < settings.warmup()) {
+            double[] g = grading.grades(ctx, batch);
+            remember(batch, g);
+            return g;
+        }
+        int from = Math.max(0, seen.size() - settings.window());
+        List<RegionSet> window = seen.subList(from, seen.size());
+        int n = ctx.regions();
+        int[] count = new int[n];
+        double floor = Double.POSITIVE_INFINITY;
+        for (int i = 0; i < window.size(); i++) {
+            for (int p : window.get(i).positions()) {
+                count[p]++;
+            }
+            double g = grades.get(from + i);
+            if (g > 0) {
+                floor = Math.min(floor, g);
+            }
+        }
+        if (floor == Double.POSITIVE_INFINITY) {
+            double[] g = grading.grades(ctx, batch);
+            remember(batch, g);
+            return g;
+        }
+        int[] toSpace = new int[n];
+        int d = 0;
+        for (int p = 0; p < n; p++) {
+            toSpace[p] = count[p] > 0 && count[p] < window.size() ? d++ : -1;
+        }
+        if (d == 0) {
+            double[] g = grading.grades(ctx, batch);
+            remember(batch, g);
+            return g;
+        }
+        List<RegionSet> train = new ArrayList<>(window.size());
+        for (RegionSet s : window) {
+            train.add(project(s, toSpace, d));
+        }
+        double[] ty = grades.subList(from, seen.size()).stream().mapToDouble(Double::doubleValue).toArray();
+        int[] pairPool = mostVaried(count, window.size(), toSpace, settings.pairPool());
+        SurrogateModel model = fits.fit(ctx, d, pairPool, train, ty, rng.nextLong());
+        double threshold = floor / 2;
+        List<RegionSet> projected = new ArrayList<>();
+        List<Integer> modelled = new ArrayList<>();
+        for (int i = 0; i < batch.size(); i++) {
+            if (inside(batch.get(i), count, window.size())) {
+                projected.add(project(batch.get(i), toSpace, d));
+                modelled.add(i);
+            } else {
+                unseen++;
+            }
+        }
+        double[] mean = new double[batch.size()];
+        double[] sd = new double[batch.size()];
+        boolean[] skip = new boolean[batch.size()];
+        boolean[] check = new boolean[batch.size()];
+        if (!projected.isEmpty()) {
+            SurrogateModel.Prediction p = model.predict(projected);
+            for (int j = 0; j < modelled.size(); j++) {
+                int i = modelled.get(j);
+                mean[i] = p.mean()[j];
+                sd[i] = p.sd()[j];
+                skip[i] = mean[i] - settings.z() * sd[i] > threshold;
+                check[i] = skip[i] && rng.nextDouble() < settings.spotCheck();
+            }
+        }
+        List<RegionSet> toScore = new ArrayList<>();
+        List<Integer> at = new ArrayList<>();
+        for (int i = 0; i < batch.size(); i++) {
+            if (!skip[i] || check[i]) {
+                toScore.add(batch.get(i));
+                at.add(i);
+            }
+        }
+        List<Grading.Measured> measured = Grading.measure(ctx, toScore);
+        double[] out = new double[batch.size()];
+        double[] scoredGrades = new double[toScore.size()];
+        double[] scoredMean = new double[toScore.size()];
+        double[] scoredSd = new double[toScore.size()];
+        boolean[] critical = new boolean[batch.size()];
+        for (int j = 0; j < toScore.size(); j++) {
+            int i = at.get(j);
+            Grading.Measured m = measured.get(j);
+            out[i] = grading.grade(ctx, m);
+            critical[i] = m.whole() != null && m.set().size() > 0 && ctx.critical(m.whole());
+            scoredGrades[j] = out[i];
+            scoredMean[j] = mean[i];
+            scoredSd[j] = sd[i];
+        }
+        remember(toScore, scoredGrades);
+        List<SearchRecords.Skip> log = new ArrayList<>();
+        for (int i = 0; i < batch.size(); i++) {
+            if (!skip[i]) {
+                continue;
+            }
+            skipped++;
+            if (check[i]) {
+                checked++;
+                falseSkips += critical[i] ? 1 : 0;
+            } else {
+                out[i] = Math.max(mean[i], floor);
+            }
+            RegionSet s = batch.get(i);
+            log.add(new SearchRecords.Skip(position++, EvaluationKey.setHex(s), s.universe(), s.size(), mean[i], sd[i],
+                    mean[i] - settings.z() * sd[i], "not critical: lower bound above " + fmt(threshold),
+                    check[i], check[i] ? out[i] : null, check[i] ? critical[i] : null));
+        }
+        ctx.recordSkips(log);
+        if (!toScore.isEmpty()) {
+            fits.quality(ctx, new SurrogateModel.Prediction(scoredMean, scoredSd), scoredGrades);
+        }
+        return out;
+    }
+
+    private void remember(List<RegionSet> sets, double[] g) {
+        for (int i = 0; i < sets.size(); i++) {
+            seen.add(sets.get(i));
+            grades.add(g[i]);
+        }
+    }
+
+    /** Whether every bit of {@code s} takes a value seen among the window's sets. */
+    private static boolean inside(RegionSet s, int[] count, int size) {
+        for (int p = 0; p < count.length; p++) {
+            boolean on = s.contains(p);
+            if (on && count[p] == 0 || !on && count[p] == size) {
+                return false;
+            }
+        }
+        return true;
+    }
+
+    private static RegionSet project(RegionSet s, int[] toSpace, int d) {
+        int[] pos = s.positions();
+        int[] out = new int[pos.length];
+        int k = 0;
+        for (int p : pos) {
+            if (toSpace[p] >= 0) {
+                out[k++] = toSpace[p];
+            }
+        }
+        return RegionSet.of(d, Arrays.copyOf(out, k));
+    }
+
+    /** The {@code m} varying positions (in space indices) whose share of lesioned sets is nearest one half. */
+    private static int[] mostVaried(int[] count, int size, int[] toSpace, int m) {
+        List<Integer> varying = new ArrayList<>();
+        for (int p = 0; p < count.length; p++) {
+            if (toSpace[p] >= 0) {
+                varying.add(p);
+            }
+        }
+        varying.sort((a, b) -> Double.compare(Math.abs(count[a] - size / 2.0), Math.abs(count[b] - size / 2.0)));
+        int[] out = new int[Math.min(m, varying.size())];
+        for (int i = 0; i < out.length; i++) {
+            out[i] = toSpace[varying.get(i)];
+        }
+        Arrays.sort(out);
+        return out;
+    }
+
+    /** Report lines: candidates, skips, spot checks and the false-skip rate, then the model's ledger. */
+    public List<String> notes() {
+        List<String> out = new ArrayList<>();
+        out.add(String.format(Locale.ROOT, "Screen (%s): %d candidates, %d skipped without a decoder call (%.1f%%), %d "
+                        + "always scored as outside what the model had seen; %d skips spot-checked with the decoder, %d "
+                        + "of them critical (false skips): false-skip rate %s.", settings.describe(), candidates, skipped,
+                candidates == 0 ? 0.0 : 100.0 * skipped / candidates, unseen, checked, falseSkips,
+                checked == 0 ? "not measured (no spot check)" : String.format(Locale.ROOT, "%.3f (95%% %.3f-%.3f, "
+                        + "Clopper-Pearson)", (double) falseSkips / checked, clopperLow(falseSkips, checked),
+                        clopperHigh(falseSkips, checked))));
+        out.addAll(fits.notes());
+        return out;
+    }
+
+    /** The ledger of the model fits. */
+    public SurrogateFits fits() {
+        return fits;
+    }
+
+    /** Candidates, skips, spot checks, false skips. */
+    public long[] counts() {
+        return new long[] {candidates, skipped, checked, falseSkips};
+    }
+
+    // Source: the Clopper-Pearson interval as Beta quantiles (common practice; Clopper & Pearson 1934).
+    static double clopperLow(long k, long n) {
+        return k == 0 ? 0 : new BetaDistribution(k, n - k + 1).inverseCumulativeProbability(0.025);
+    }
+
+    static double clopperHigh(long k, long n) {
+        return k == n ? 1 : new BetaDistribution(k + 1, n - k).inverseCumulativeProbability(0.975);
+    }
+
+    private static String fmt(double v) {
+        return String.format(Locale.ROOT, "%.4g", v);
+    }
+}
