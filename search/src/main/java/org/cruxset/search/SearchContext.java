@@ -397,6 +397,30 @@ public final class SearchContext {
                 EvaluationKey.setHex(pool), maxSize, true, List.of()));
     }
 
+    /**
+     * The search-part scores that earlier runs on the same model, data, preprocessing, lesion mode and mode seed left
+     * in the store (empty without a store), in the order they were stored, as sets over this run's regions with their
+     * correct samples and mean true-class probability: training data for a surrogate that costs this run nothing.
+     */
+    public List<EarlierScore> earlierScores() {
+        if (session.store() == null || session.run() == null) {
+            return List.of();
+        }
+        List<EarlierScore> out = new ArrayList<>();
+        for (org.cruxset.scoring.store.ResultsStore.EarlierScore e : session.store().earlierScores(session.run(),
+                scorer.key(empty()))) {
+            if (e.universe() == regions() && e.n() == intact.n()) {
+                out.add(new EarlierScore(EvaluationKey.parseSetHex(e.setHex(), e.universe()), e.correct(),
+                        e.meanTrueProbability()));
+            }
+        }
+        return out;
+    }
+
+    /** An earlier run's score of a set on this run's search part. */
+    public record EarlierScore(RegionSet set, int correct, double meanTrueProbability) {
+    }
+
     /** Records a surrogate fit in the store (nothing without one; a resumed run's replay writes nothing twice). */
     public void recordFit(String purpose, int fit, int trainingSets, String model, double seconds) {
         if (records != null) {

@@ -109,6 +109,31 @@ class SurrogateTest {
     }
 
     @Test
+    void aLaterRunTrainsOnTheScoresOfEarlierRunsInTheStore(@TempDir Path dir) throws SQLException {
+        PlantedProblem p = new PlantedProblem(PlantedProblem.benchmark(), 4);
+        SearchRun.Settings settings = new SearchRun.Settings(Double.POSITIVE_INFINITY, null, 2, false, 3, 0);
+        try (ScoringSession s = Planted.session(p, 800, dir, "first")) {
+            SearchRun.run(s, new SurrogateStrategy(SurrogateStrategy.Settings.defaults(), null), settings, null);
+        }
+        SurrogateStrategy second = new SurrogateStrategy(SurrogateStrategy.Settings.defaults(), null);
+        try (ScoringSession s = Planted.session(p, 400, dir, "second")) {
+            SearchRun.run(s, second, new SearchRun.Settings(Double.POSITIVE_INFINITY, null, 3, false, 3, 0), null);
+        }
+        String note = second.notes().get(0);
+        java.util.regex.Matcher m = java.util.regex.Pattern.compile("; (\\d+) sets within it scored by earlier runs")
+                .matcher(note);
+        assertTrue(m.find(), note);
+        int warm = Integer.parseInt(m.group(1));
+        assertTrue(warm > 100, "the first run's sets in the space train the second: " + note);
+        try (Connection c = DriverManager.getConnection("jdbc:sqlite:" + dir.resolve(ScoringSession.STORE_FILE))) {
+            List<String> first = rows(c, "SELECT training_sets FROM surrogate_fits WHERE fit = 1 ORDER BY run_id");
+            assertEquals(2, first.size());
+            assertTrue(Integer.parseInt(first.get(1)) >= warm, "the second run's first fit saw the earlier sets: "
+                    + first);
+        }
+    }
+
+    @Test
     void screenedGeneticResumesToTheSameSkipsAndNeverReportsASkippedSet(@TempDir Path dir) throws SQLException {
         PlantedProblem p = new PlantedProblem(PlantedProblem.benchmark(), 5);
         Trace[] t = cleanAndResumed(dir, p, 2500, () -> new GeneticStrategy(GeneticStrategy.Settings.defaults(), null,

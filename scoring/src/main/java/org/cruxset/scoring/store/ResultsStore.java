@@ -554,6 +554,43 @@ public final class ResultsStore implements AutoCloseable {
         return lookup(null, keys);
     }
 
+    /** A stored evaluation's set and counts, for training a model of the score on earlier runs' results. */
+    public record EarlierScore(String setHex, int universe, int n, int correct, double meanTrueProbability) {
+    }
+
+    /**
+     * The evaluations of the scoring context of {@code template} (same model, data, preprocessing, lesion mode and mode
+     * seed; its set is ignored) that runs begun before {@code run} created before {@code run} began, in the order they
+     * were stored: the same list at every resume of {@code run}, whatever later runs add.
+     */
+    public List<EarlierScore> earlierScores(Run run, EvaluationKey template) {
+        synchronized (lock) {
+            return inTransaction("read earlier evaluations for run " + run.id(), c -> {
+                List<EarlierScore> out = new ArrayList<>();
+                try (PreparedStatement ps = c.prepareStatement("SELECT e.set_hex, e.universe, e.n, e.correct, "
+                        + "e.mean_true_prob FROM evaluations e WHERE e.model_hash = ? AND e.data_hash = ? AND "
+                        + "e.preprocessing = ? AND e.lesion_mode = ? AND e.mode_seed = ? AND e.created_by_run < ? AND "
+                        + "e.created_at <= (SELECT started_at FROM runs WHERE id = ?) ORDER BY e.id")) {
+                    ps.setString(1, template.modelHash());
+                    ps.setString(2, template.dataHash());
+                    ps.setString(3, template.preprocessing());
+                    ps.setString(4, template.mode().label());
+                    ps.setLong(5, template.modeSeed());
+                    ps.setLong(6, run.id());
+                    ps.setLong(7, run.id());
+                    try (ResultSet r = ps.executeQuery()) {
+                        while (r.next()) {
+                            double p = r.getDouble(5);
+                            out.add(new EarlierScore(r.getString(1), r.getInt(2), r.getInt(3), r.getInt(4),
+                                    r.wasNull() ? Double.NaN : p));
+                        }
+                    }
+                }
+                return out;
+            });
+        }
+    }
+
     /**
      * The stored evaluations among {@code keys}, each with {@code run}'s budget spent once it paid for it
      * ({@link Stored#spentWhenPaid()}; NaN when {@code run} is null or has not paid for it), in one batched query

@@ -29,12 +29,12 @@ import org.cruxset.search.strategy.SurrogateStrategy;
  * success rate (the proven minimum size reached), the median best critical size, the median sets charged to reach it,
  * how often the result contains a named trap, and the median budget spent in all (sample-evaluations = sets × the
  * search part's samples) and wall time. A strategy name with {@code ~race} runs it with racing, with {@code ~screen}
- * (genetic) through a surrogate screen.
+ * (genetic, local) through a surrogate screen.
  */
 public final class SearchSuite {
     /** The strategies of the suite; later strategies join this list. */
     public static final List<String> STRATEGIES = List.of("random", "grow", "grow+prune", "ranked+prune", "genetic",
-            "local", "surrogate", "genetic~screen");
+            "local", "surrogate", "genetic~screen", "local~screen");
 
     /** One run: its strategy, seed, budget, best critical size (−1: none), sets to reach it, trapped, the proof. */
     public record Run(String strategy, long seed, long budget, int bestSize, double chargedToBest, boolean trapped,
@@ -109,7 +109,7 @@ public final class SearchSuite {
             case "grow", "grow+prune" -> new GrowStrategy(false, false);
             case "grow-lazy+prune" -> new GrowStrategy(false, true);
             case "ranked+prune" -> new RankedStrategy(null);
-            case "local" -> new LocalStrategy(settings.local(), null);
+            case "local" -> new LocalStrategy(settings.local(), null, screen);
             case "genetic" -> new GeneticStrategy(settings.genetic(), null, screen);
             case "surrogate" -> new SurrogateStrategy(settings.surrogate(), null);
             default -> throw new IllegalArgumentException("unknown suite strategy '" + name + "', expected one of "
@@ -151,10 +151,10 @@ public final class SearchSuite {
                 }
                 trapped |= all;
             }
-            SurrogateFits fits = chosen instanceof SurrogateStrategy st ? st.fits()
-                    : chosen instanceof GeneticStrategy g && g.screen() != null ? g.screen().fits() : null;
-            long[] screen = chosen instanceof GeneticStrategy g && g.screen() != null ? g.screen().counts()
-                    : new long[4];
+            SurrogateFits fits = SurrogateFits.of(chosen);
+            SurrogateScreen used = chosen instanceof GeneticStrategy g ? g.screen()
+                    : chosen instanceof LocalStrategy l ? l.screen() : null;
+            long[] screen = used != null ? used.counts() : new long[4];
             return new Run(strategy, seed, budget, r.bestSize(), r.chargedAtBest(), trapped, proof, p.minimumSize(),
                     r.charged(), Math.round(r.charged() * n), seconds, decisions[0], decisions[1],
                     fits == null ? 0 : fits.fits(), fits == null ? 0 : fits.seconds(), screen[0], screen[1], screen[2],

@@ -176,9 +176,11 @@ public final class BenchCommand implements Callable<Integer> {
                 r.candidates() == 0 ? "-" : String.format(Locale.ROOT, "%.1f%% (%d / %d)",
                         100.0 * r.skipped() / r.candidates(), r.falseSkips(), r.spotChecked())});
         }
-        // Surrogate-assisted strategies against plain genetic with the same racing, paired by seed.
+        // Surrogate-assisted strategies against the plain strategy (genetic for surrogate) with the same racing, paired
+        // by seed.
         for (String s : strategies) {
-            String baseline = s.contains("~race") ? "genetic~race" : "genetic";
+            String plain = s.startsWith("surrogate") ? "genetic" : s.replace("~screen", "").replace("~race", "");
+            String baseline = plain + (s.contains("~race") ? "~race" : "");
             if (!strategies.contains(baseline) || !(s.startsWith("surrogate") || s.contains("~screen"))) {
                 continue;
             }

@@ -45,8 +45,8 @@ import picocli.CommandLine.Spec;
             "",
             "Strategies: grow (greedy addition), ranked (smallest critical prefix of a ranking), prune (backward "
                 + "elimination from a set), exhaustive (every subset of a pool by increasing size), random (random sets "
-                + "of every size: the floor), genetic (NSGA-II over set size and distance from criticality; --screen "
-                + "skips candidates a surrogate rules out), local (OptaPlanner local search), surrogate (rounds of "
+                + "of every size: the floor), genetic (NSGA-II over set size and distance from criticality), local "
+                + "(OptaPlanner local search; both take --screen to skip candidates a surrogate rules out), surrogate (rounds of "
                 + "fit a model of the score, optimise it, score the few best sets). Unless --no-prune, the best critical sets found are pruned so each carries "
                 + "an irreducibility certificate. Every reported set is re-scored on the confirmation part (not "
                 + "charged). Kill the run at any time: the same command resumes it and ends with the same result, each "
@@ -124,7 +124,7 @@ public final class SearchCommand implements Callable<Integer> {
                     + "(0 to 1; unused with --no-prune). Default: ${DEFAULT-VALUE}.")
     double reserve;
 
-    @Option(names = "--screen", description = "genetic: skip the decoder for candidates a surrogate predicts, with "
+    @Option(names = "--screen", description = "genetic and local: skip the decoder for candidates a surrogate predicts, with "
             + "high confidence, not to be critical (they get the predicted score, flagged, and are never reported); "
             + "a seeded share of the skips is spot-checked with the decoder and the false-skip rate reported. "
             + "Settings: the config's screen section.")
@@ -150,9 +150,9 @@ public final class SearchCommand implements Callable<Integer> {
             throw new CommandLine.ParameterException(spec.commandLine(), "--reserve must be at least 0 and below 1, found "
                     + reserve);
         }
-        if (screen && !strategy.equalsIgnoreCase("genetic")) {
-            throw new CommandLine.ParameterException(spec.commandLine(), "--screen works with --strategy genetic, found '"
-                    + strategy + "'");
+        if (screen && !strategy.equalsIgnoreCase("genetic") && !strategy.equalsIgnoreCase("local")) {
+            throw new CommandLine.ParameterException(spec.commandLine(), "--screen works with --strategy genetic or "
+                    + "local, found '" + strategy + "'");
         }
         Instant deadline = until == null ? null : nextTime(until);
         Cohort c = cohort.read();
@@ -194,7 +194,7 @@ public final class SearchCommand implements Callable<Integer> {
             case "surrogate" -> new org.cruxset.search.strategy.SurrogateStrategy(
                     org.cruxset.search.SearchConfig.read(config).surrogate(), given);
             case "local" -> new org.cruxset.search.strategy.LocalStrategy(
-                    org.cruxset.search.SearchConfig.read(config).local(), given);
+                    org.cruxset.search.SearchConfig.read(config).local(), given, screen());
             default -> throw new CommandLine.ParameterException(spec.commandLine(), "--strategy must be grow, ranked, "
                     + "prune, exhaustive, random, genetic, local or surrogate, found '" + strategy + "'");
         };
@@ -322,6 +322,13 @@ public final class SearchCommand implements Callable<Integer> {
         }
         for (String line : s.notes()) {
             pw.println(line);
+        }
+        org.cruxset.search.strategy.SurrogateFits fits = org.cruxset.search.strategy.SurrogateFits.of(s);
+        if (fits != null) {
+            pw.printf("Accounting: decoder %.1f scored sets charged (%.0f sample-evaluations; %d sets decoded whole in "
+                            + "this session); surrogate %d fits in %.1f s; wall %.1f s of search in all.%n", r.charged(),
+                    r.charged() * samples, session.scorer().decodedCount(), fits.fits(), fits.seconds(),
+                    r.elapsedSeconds());
         }
         if (r.bestSize() < 0) {
             pw.println("No critical set was found. Raise the budget, try another strategy, or check the criterion.");

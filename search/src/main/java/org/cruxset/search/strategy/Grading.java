@@ -91,6 +91,22 @@ public final class Grading {
         return out;
     }
 
+    /** The graded distance of an earlier run's score (see {@link SearchContext#earlierScores}). */
+    public double grade(SearchContext ctx, SearchContext.EarlierScore e) {
+        int limit = ctx.maxCorrectWhenCritical();
+        if (e.set().size() > 0 && e.correct() <= limit) {
+            return 0;
+        }
+        return graded(Math.max(0, e.correct() - limit) / (double) ctx.intact().n(), e.meanTrueProbability());
+    }
+
+    /** The signed margin of an earlier run's score (see {@link #margin(SearchContext, Measured)}). */
+    public static double margin(SearchContext ctx, SearchContext.EarlierScore e) {
+        int n = ctx.intact().n();
+        double m = (e.correct() - ctx.maxCorrectWhenCritical() - 0.5) / n;
+        return e.correct() <= ctx.maxCorrectWhenCritical() ? Math.min(-0.5 / n, m) : Math.max(0.5 / n, m);
+    }
+
     /** The graded distance of a measured set (from its whole score when it has one). */
     public double grade(SearchContext ctx, Measured m) {
         if (m.whole() != null) {

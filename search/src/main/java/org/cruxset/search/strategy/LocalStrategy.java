@@ -18,11 +18,28 @@ import org.cruxset.search.strategy.local.LocalSearch;
 public final class LocalStrategy implements Strategy {
     private final LocalSearch.Settings settings;
     private final Ranking given;
+    private final SurrogateScreen screen;
 
     /** A local search with {@code settings}, started above {@code ranking}'s critical prefix (single lesions when null). */
     public LocalStrategy(LocalSearch.Settings settings, Ranking ranking) {
+        this(settings, ranking, null);
+    }
+
+    /** As above, each step's neighbourhood passing through {@code screen} (null: every set scored). */
+    public LocalStrategy(LocalSearch.Settings settings, Ranking ranking, SurrogateScreen screen) {
         this.settings = settings;
         this.given = ranking;
+        this.screen = screen;
+    }
+
+    /** The screen, or null. */
+    public SurrogateScreen screen() {
+        return screen;
+    }
+
+    @Override
+    public java.util.List<String> notes() {
+        return screen == null ? java.util.List.of() : screen.notes();
     }
 
     @Override
@@ -32,7 +49,8 @@ public final class LocalStrategy implements Strategy {
 
     @Override
     public String settings() {
-        return settings.describe() + ", ranking=" + (given == null ? SingleLesion.SOURCE : "given");
+        return settings.describe() + ", ranking=" + (given == null ? SingleLesion.SOURCE : "given")
+                + (screen == null ? "" : ", " + screen.describe());
     }
 
     @Override
@@ -41,7 +59,7 @@ public final class LocalStrategy implements Strategy {
         RegionSet superset = pool.criticalSuperset(ctx, settings.startFactor());
         RegionSet start = superset != null ? superset : RegionSet.all(ctx.regions());
         try {
-            LocalSearch.run(ctx, start, pool, settings);
+            LocalSearch.run(ctx, start, pool, settings, screen);
         } catch (RuntimeException e) {
             for (Throwable c = e; c != null; c = c.getCause()) {
                 if (c instanceof StopSearch s) {

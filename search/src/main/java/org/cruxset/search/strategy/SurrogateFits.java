@@ -94,13 +94,14 @@ public final class SurrogateFits {
             out.add(String.format(Locale.ROOT, "Surrogate (%s): no fit yet.", kind));
             return out;
         }
-        out.add(String.format(Locale.ROOT, "Surrogate (%s): %d fits in %.1f s (not decoder time); last: %s.", purpose,
-                fits, seconds, lastModel));
+        out.add(String.format(Locale.ROOT, "%s model: %d fits in %.1f s (surrogate time, apart from decoder time); "
+                + "last: %s.", purpose.equals("screen") ? "Screen" : "Surrogate", fits, seconds, lastModel));
         if (!qualities.isEmpty()) {
             Quality last = qualities.get(qualities.size() - 1);
-            out.add(String.format(Locale.ROOT, "Surrogate quality on each newest batch, predicted before it was scored "
+            out.add(String.format(Locale.ROOT, "%s quality on each newest batch, predicted before it was scored "
                     + "(%d batches): held-out R² median %s (last %s), Spearman ρ median %s (last %s), 95%% interval "
-                    + "coverage median %s (last %s).", qualities.size(), fmt(median(Quality::r2)), fmt(last.r2()),
+                    + "coverage median %s (last %s).", purpose.equals("screen") ? "Screen model (on the candidates "
+                    + "it sent to the decoder: not skipped, or spot-checked)" : "Surrogate", qualities.size(), fmt(median(Quality::r2)), fmt(last.r2()),
                     fmt(median(Quality::spearman)), fmt(last.spearman()), fmt(median(Quality::coverage)),
                     fmt(last.coverage())));
         }
@@ -118,6 +119,17 @@ public final class SurrogateFits {
 
     private static String fmt(double v) {
         return Double.isNaN(v) ? "n/a" : String.format(Locale.ROOT, "%.2f", v);
+    }
+
+    /** The fits of a strategy that uses a surrogate (the surrogate strategy, or genetic with a screen), or null. */
+    public static SurrogateFits of(org.cruxset.search.Strategy s) {
+        if (s instanceof SurrogateStrategy st) {
+            return st.fits();
+        }
+        if (s instanceof LocalStrategy l && l.screen() != null) {
+            return l.screen().fits();
+        }
+        return s instanceof GeneticStrategy g && g.screen() != null ? g.screen().fits() : null;
     }
 
     /** The last training size. */

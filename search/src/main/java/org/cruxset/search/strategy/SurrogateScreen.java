@@ -29,7 +29,7 @@ import org.cruxset.surrogate.SurrogateModel;
 public final class SurrogateScreen {
     /** Settings of a screen. */
     public record Settings(String model, double z, int warmup, int window, double spotCheck, int pairPool, int burnIn,
-                           int trees) {
+                           int trees, boolean warmStart) {
         public Settings {
             if (!SurrogateFits.MODELS.contains(model)) {
                 throw new IllegalArgumentException("screen model must be one of " + SurrogateFits.MODELS + ", found '"
@@ -44,12 +44,12 @@ public final class SurrogateScreen {
 
         /** The defaults. */
         public static Settings defaults() {
-            return new Settings("additive", 2.0, 200, 1500, 0.05, 0, 100, 30);
+            return new Settings("additive", 2.0, 200, 1500, 0.05, 0, 100, 30, true);
         }
 
         String describe() {
-            return String.format(Locale.ROOT, "screen model=%s, z=%s, warmup=%d, window=%d, spotCheck=%s", model, z,
-                    warmup, window, spotCheck);
+            return String.format(Locale.ROOT, "screen model=%s, z=%s, warmup=%d, window=%d, spotCheck=%s, warmStart=%s",
+                    model, z, warmup, window, spotCheck, warmStart);
         }
     }
 
@@ -64,6 +64,7 @@ public final class SurrogateScreen {
     private long falseSkips;
     private long unseen;
     private int position;
+    private int warmed;
 
     /** A screen with {@code settings}. */
     public SurrogateScreen(Settings settings) {
@@ -83,6 +84,15 @@ public final class SurrogateScreen {
     public double[] grades(SearchContext ctx, Grading grading, List<RegionSet> batch) {
         if (rng == null) {
             rng = ctx.random("screen");
+            if (settings.warmStart()) {
+                for (SearchContext.EarlierScore e : ctx.earlierScores()) {
+                    if (e.set().size() > 0) {
+                        seen.add(e.set());
+                        grades.add(grading.grade(ctx, e));
+                        warmed++;
+                    }
+                }
+            }
         }
         candidates += batch.size();
         if (seen.size() < settings.warmup()) {
@@ -250,9 +260,9 @@ public final class SurrogateScreen {
     public List<String> notes() {
         List<String> out = new ArrayList<>();
         out.add(String.format(Locale.ROOT, "Screen (%s): %d candidates, %d skipped without a decoder call (%.1f%%), %d "
-                        + "always scored as outside what the model had seen; %d skips spot-checked with the decoder, %d "
+                        + "always scored as outside what the model had seen; %d sets of earlier runs used as training data; %d skips spot-checked with the decoder, %d "
                         + "of them critical (false skips): false-skip rate %s.", settings.describe(), candidates, skipped,
-                candidates == 0 ? 0.0 : 100.0 * skipped / candidates, unseen, checked, falseSkips,
+                candidates == 0 ? 0.0 : 100.0 * skipped / candidates, unseen, warmed, checked, falseSkips,
                 checked == 0 ? "not measured (no spot check)" : String.format(Locale.ROOT, "%.3f (95%% %.3f-%.3f, "
                         + "Clopper-Pearson)", (double) falseSkips / checked, clopperLow(falseSkips, checked),
                         clopperHigh(falseSkips, checked))));

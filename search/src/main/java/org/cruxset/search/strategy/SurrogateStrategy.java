@@ -37,7 +37,7 @@ public final class SurrogateStrategy implements Strategy {
     /** Settings, each with a default chosen on the search benchmark. */
     public record Settings(String model, String acquisition, int rounds, int candidates, double lambda, double kappa,
                            int initial, int pool, double supersetFactor, int pairPool, int burnIn, int trees,
-                           int annealSteps, int window) {
+                           int annealSteps, int window, boolean warmStart) {
         public Settings {
             if (!SurrogateFits.MODELS.contains(model)) {
                 throw new IllegalArgumentException("model must be one of " + SurrogateFits.MODELS + ", found '" + model
@@ -58,15 +58,15 @@ public final class SurrogateStrategy implements Strategy {
 
         /** The defaults. */
         public static Settings defaults() {
-            return new Settings("forest", "thompson", 80, 8, 0.01, 2.0, 16, 0, 1.5, 12, 100, 50, 2000, 0);
+            return new Settings("forest", "thompson", 80, 8, 0.01, 2.0, 16, 0, 1.5, 12, 100, 50, 2000, 0, true);
         }
 
         String describe() {
             return String.format(Locale.ROOT, "model=%s, acquisition=%s%s, rounds=%d, candidates=%d, lambda=%s, "
                             + "initial=%d, pool=%d, supersetFactor=%s, pairPool=%d, burnIn=%d, trees=%d, annealSteps=%d, "
-                            + "window=%d", model, acquisition, acquisition.equals("lcb") ? " (kappa " + kappa + ")" : "",
+                            + "window=%d, warmStart=%s", model, acquisition, acquisition.equals("lcb") ? " (kappa " + kappa + ")" : "",
                     rounds, candidates, lambda, initial, pool, supersetFactor, pairPool, burnIn, trees, annealSteps,
-                    window);
+                    window, warmStart);
         }
     }
 
@@ -74,6 +74,7 @@ public final class SurrogateStrategy implements Strategy {
     private final Ranking given;
     private final SurrogateFits fits;
     private String space = "not chosen yet";
+    private int warmed;
 
     /** A surrogate search with {@code settings} within a space taken from {@code ranking} (single lesions when null). */
     public SurrogateStrategy(Settings settings, Ranking ranking) {
@@ -100,7 +101,9 @@ public final class SurrogateStrategy implements Strategy {
     @Override
     public List<String> notes() {
         List<String> out = new ArrayList<>();
-        out.add("Surrogate search space: " + space + ".");
+        out.add("Surrogate search space: " + space + "; " + (settings.warmStart() ? warmed + " sets within it scored "
+                + "by earlier runs on the same model, data and lesion mode were used as training data (not charged)"
+                : "earlier runs' scores not used (warmStart false)") + ".");
         out.addAll(fits.notes());
         return out;
     }
@@ -147,9 +150,34 @@ public final class SurrogateStrategy implements Strategy {
         if (superset == null) {
             start = RegionSet.all(d);
         }
+        int[] inputToSpace = new int[ctx.regions()];
+        java.util.Arrays.fill(inputToSpace, -1);
+        for (int i = 0; i < d; i++) {
+            inputToSpace[spaceToInput[i]] = i;
+        }
+        int warm = 0;
+        if (settings.warmStart()) {
+            for (SearchContext.EarlierScore e : ctx.earlierScores()) {
+                RegionSet inSpace = RegionSet.empty(d);
+                boolean inside = e.set().size() > 0;
+                for (int p : e.set().positions()) {
+                    inside &= inputToSpace[p] >= 0;
+                    if (inside) {
+                        inSpace = inSpace.with(inputToSpace[p]);
+                    }
+                }
+                if (inside && done.add(inSpace)) {
+                    seen.add(inSpace);
+                    y.add(Grading.margin(ctx, e));
+                    warm++;
+                }
+            }
+        }
+        warmed = warm;
         List<RegionSet> first = new ArrayList<>();
-        first.add(start);
-        done.add(start);
+        if (done.add(start)) {
+            first.add(start);
+        }
         for (int i = 0; i < settings.initial() * 20 && first.size() < settings.initial(); i++) {
             RegionSet v = RegionSet.empty(d);
             for (int p : start.positions()) {
@@ -162,6 +190,9 @@ public final class SurrogateStrategy implements Strategy {
             }
         }
         score(ctx, first, spaceToInput, seen, y);
+        if (seen.isEmpty()) {
+            return;
+        }
         for (int round = 0; round < settings.rounds(); round++) {
             List<RegionSet> train = settings.window() > 0 && seen.size() > settings.window()
                     ? seen.subList(seen.size() - settings.window(), seen.size()) : seen;

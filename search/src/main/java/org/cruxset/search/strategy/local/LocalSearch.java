@@ -73,11 +73,12 @@ public final class LocalSearch {
     /**
      * Runs rounds of the search from {@code start}, each until {@code patience} steps pass without improvement, until
      * {@code maxSteps} steps in all, or the context's budget or time; each round has a seed of its own, so rounds
-     * take other paths from the same start.
+     * take other paths from the same start. {@code screen} (nullable) screens each step's neighbourhood.
      */
-    public static void run(SearchContext ctx, RegionSet start, RankedPool pool, Settings settings) {
+    public static void run(SearchContext ctx, RegionSet start, RankedPool pool, Settings settings,
+                           org.cruxset.search.strategy.SurrogateScreen screen) {
         Neighbourhood nb = new Neighbourhood(ctx, ctx.random("local-moves"), pool, settings.additions(),
-                settings.swaps());
+                settings.swaps(), screen);
         java.util.SplittableRandom seeds = ctx.random("local-solver");
         long steps = 0;
         while (steps < settings.maxSteps()) {

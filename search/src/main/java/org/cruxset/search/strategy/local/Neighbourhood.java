@@ -10,7 +10,9 @@ import org.cruxset.scoring.eval.LesionScorer;
 import org.cruxset.scoring.eval.SetScore;
 import org.cruxset.scoring.lesion.RegionSet;
 import org.cruxset.search.SearchContext;
+import org.cruxset.search.strategy.Grading;
 import org.cruxset.search.strategy.RankedPool;
+import org.cruxset.search.strategy.SurrogateScreen;
 import org.optaplanner.core.api.score.buildin.hardmediumsoftlong.HardMediumSoftLongScore;
 
 /**
@@ -23,7 +25,9 @@ import org.optaplanner.core.api.score.buildin.hardmediumsoftlong.HardMediumSoftL
  * to climb; the medium score is minus the set's size; the soft score is how firmly the set collapses the decoder
  * (its correct samples, then its mean true-class probability, fewer and lower better), so that among critical sets
  * of one size the solver keeps the one furthest below the collapse threshold, which leaves the most room to remove
- * further regions. Only the current step's scores are kept in memory.
+ * further regions. Only the current step's scores are kept in memory. With a {@link SurrogateScreen}, the batch goes
+ * through the screen: a non-critical set's hard score is then its graded distance from criticality ({@link Grading},
+ * predicted for skipped sets), critical sets keep the scores above.
  */
 final class Neighbourhood {
     private final SearchContext ctx;
@@ -33,11 +37,17 @@ final class Neighbourhood {
     private final int swaps;
     private final int limit;
     private final Map<RegionSet, SetScore> cache = new HashMap<>();
+    /** With a screen: the graded distance of each non-critical set of the step (skipped ones' predicted). */
+    private final Map<RegionSet, Double> graded = new HashMap<>();
+    private final SurrogateScreen screen;
+    private final Grading grading = new Grading("mixed");
     private int batches;
     private long batchedSets;
 
-    Neighbourhood(SearchContext ctx, SplittableRandom rng, RankedPool pool, int additions, int swaps) {
+    Neighbourhood(SearchContext ctx, SplittableRandom rng, RankedPool pool, int additions, int swaps,
+                  SurrogateScreen screen) {
         this.ctx = ctx;
+        this.screen = screen;
         this.rng = rng;
         this.pool = pool;
         this.additions = additions;
@@ -72,10 +82,27 @@ final class Neighbourhood {
             sets.add(current.without(a.position()).with(b.position()));
         }
         cache.clear();
+        graded.clear();
         List<RegionSet> batch = new ArrayList<>(sets);
-        List<LesionScorer.Scored> scored = ctx.score(batch);
-        for (LesionScorer.Scored s : scored) {
-            cache.put(s.set(), s.score());
+        if (screen == null) {
+            for (LesionScorer.Scored s : ctx.score(batch)) {
+                cache.put(s.set(), s.score());
+            }
+        } else {
+            // The screen scores what it does not skip; critical sets (grade 0) were scored whole, and are read back
+            // from the run's own store (paid already) for their soft score.
+            double[] g = screen.grades(ctx, grading, batch);
+            List<RegionSet> critical = new ArrayList<>();
+            for (int i = 0; i < batch.size(); i++) {
+                if (g[i] == 0) {
+                    critical.add(batch.get(i));
+                } else {
+                    graded.put(batch.get(i), g[i]);
+                }
+            }
+            for (LesionScorer.Scored s : ctx.score(critical)) {
+                cache.put(s.set(), s.score());
+            }
         }
         batches++;
         batchedSets += batch.size();
@@ -85,6 +112,12 @@ final class Neighbourhood {
     /** The graded score of the plan's set, from this step's batch or scored alone (e.g. the first set). */
     HardMediumSoftLongScore score(LesionPlan plan) {
         RegionSet s = plan.set();
+        Double g = graded.get(s);
+        if (g != null) {
+            // Screened and not critical: the graded distance (in millionths) stands for how far it is from critical.
+            long distance = Math.max(1, Math.round(g * 1e6));
+            return HardMediumSoftLongScore.of(-distance, -s.size(), -distance);
+        }
         SetScore q = cache.get(s);
         if (q == null) {
             q = ctx.score(s).score();
