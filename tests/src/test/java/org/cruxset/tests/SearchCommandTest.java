@@ -81,7 +81,7 @@ class SearchCommandTest {
                 + again.out());
         Cli.Run bad = Cli.run(args(out, "--strategy", "annealing").toArray(String[]::new));
         assertEquals(2, bad.exit(), bad.err());
-        assertTrue(bad.err().contains("--strategy must be grow, ranked, prune, exhaustive, random, genetic or local"), bad.err());
+        assertTrue(bad.err().contains("--strategy must be grow, ranked, prune, exhaustive, random, genetic, local or surrogate"), bad.err());
         Cli.Run budget = Cli.run(args(out, "--budget", "0").toArray(String[]::new));
         assertEquals(2, budget.exit(), budget.err());
         assertTrue(budget.err().contains("--budget must be at least 1"), budget.err());
@@ -161,5 +161,40 @@ class SearchCommandTest {
         assertEquals(1, Killed.count(db, "SELECT COUNT(*) FROM runs"));
         assertEquals(Killed.count(cleanDb, "SELECT COUNT(*) FROM certificates"),
                 Killed.count(db, "SELECT COUNT(*) FROM certificates"), "certificates recorded once");
+    }
+
+    @Test
+    void surrogateAndScreenedSearchesFindTheDemosMinimumAndAccountForTheirFits(@TempDir Path out) throws Exception {
+        int minimum = TruthFile.decoderMinimumSets(DemoData.TRUTH).get(0).size();
+        Cli.Run s = Cli.run(args(out.resolve("s"), "--strategy", "surrogate", "--budget", "600", "--seed", "3")
+                .toArray(String[]::new)).requireSuccess();
+        assertEquals(minimum, bestSize(s.out()), s.out());
+        assertTrue(s.out().contains("Surrogate search space: "), s.out());
+        assertTrue(s.out().matches("(?s).*Surrogate model: \\d+ fits in .*"), s.out());
+        assertTrue(s.out().contains("held-out R² median"), s.out());
+        assertTrue(s.out().contains("Accounting: decoder "), s.out());
+        Cli.Run g = Cli.run(args(out.resolve("g"), "--strategy", "genetic", "--screen", "--budget", "1500", "--seed",
+                "3").toArray(String[]::new)).requireSuccess();
+        assertEquals(minimum, bestSize(g.out()), g.out());
+        Matcher m = Pattern.compile("(\\d+) candidates, (\\d+) skipped without a decoder call").matcher(g.out());
+        assertTrue(m.find(), g.out());
+        long skipped = Long.parseLong(m.group(2));
+        assertTrue(skipped > 0, g.out());
+        assertTrue(g.out().contains("false-skip rate"), g.out());
+        Path db = out.resolve("g").resolve("results.sqlite");
+        try (Connection c = DriverManager.getConnection("jdbc:sqlite:" + db);
+             Statement st = c.createStatement();
+             ResultSet r = st.executeQuery("SELECT count(*), sum(spot_checked) FROM search_skips")) {
+            r.next();
+            assertEquals(skipped, r.getLong(1), "every skip is logged");
+            assertTrue(r.getLong(2) > 0, "some skips were spot-checked");
+        }
+        Cli.run("export", "--out", out.resolve("g").toString()).requireSuccess();
+        List<String> skips = Files.readAllLines(out.resolve("g").resolve("export").resolve("search_skips.tsv"));
+        assertEquals(skipped + 1, skips.size(), "the export holds the skip log with its header");
+        assertTrue(skips.get(0).startsWith("run_id\tposition\tset_hex"), skips.get(0));
+        Cli.Run bad = Cli.run(args(out.resolve("b"), "--strategy", "grow", "--screen").toArray(String[]::new));
+        assertEquals(2, bad.exit(), bad.err());
+        assertTrue(bad.err().contains("--screen works with --strategy genetic or local"), bad.err());
     }
 }
