@@ -15,7 +15,8 @@ import org.cruxset.surrogate.SurrogateModel;
 /**
  * Screening of a strategy's candidates by a surrogate of their graded distance from criticality ({@link Grading}: 0
  * exactly for critical sets): a candidate whose lower predictive bound, mean − z·sd, lies above half the smallest
- * non-critical grade seen is predicted with high confidence not to be critical, and is not sent to the decoder. It
+ * non-critical grade seen and above the model's prediction of every critical set it was trained on is predicted with
+ * high confidence not to be critical, and is not sent to the decoder. It
  * gets its predicted grade (never below that smallest non-critical grade, so it can never pass for critical), is
  * flagged in the skip log of the store, and can never be reported: only scored sets reach the front. A seeded share
  * {@code spotCheck} of the skips is scored anyway, and a check that finds a critical set is a false skip; the run's
@@ -136,7 +137,19 @@ public final class SurrogateScreen {
         double[] ty = grades.subList(from, seen.size()).stream().mapToDouble(Double::doubleValue).toArray();
         int[] pairPool = mostVaried(count, window.size(), toSpace, settings.pairPool());
         SurrogateModel model = fits.fit(ctx, d, pairPool, train, ty, rng.nextLong());
+        // Skip only what the model places above every critical set it was trained on, and clearly above zero.
+        List<RegionSet> criticalSeen = new ArrayList<>();
+        for (int i = 0; i < train.size(); i++) {
+            if (ty[i] == 0) {
+                criticalSeen.add(train.get(i));
+            }
+        }
         double threshold = floor / 2;
+        if (!criticalSeen.isEmpty()) {
+            for (double v : model.predict(criticalSeen).mean()) {
+                threshold = Math.max(threshold, v);
+            }
+        }
         List<RegionSet> projected = new ArrayList<>();
         List<Integer> modelled = new ArrayList<>();
         for (int i = 0; i < batch.size(); i++) {
@@ -199,7 +212,8 @@ public final class SurrogateScreen {
             }
             RegionSet s = batch.get(i);
             log.add(new SearchRecords.Skip(position++, EvaluationKey.setHex(s), s.universe(), s.size(), mean[i], sd[i],
-                    mean[i] - settings.z() * sd[i], "not critical: lower bound above " + fmt(threshold),
+                    mean[i] - settings.z() * sd[i], "not critical: lower bound above " + fmt(threshold)
+                    + " (half the smallest non-critical grade, and every critical set's prediction)",
                     check[i], check[i] ? out[i] : null, check[i] ? critical[i] : null));
         }
         ctx.recordSkips(log);
