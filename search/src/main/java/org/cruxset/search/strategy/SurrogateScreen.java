@@ -280,6 +280,10 @@ public final class SurrogateScreen {
                 checked == 0 ? "not measured (no spot check)" : String.format(Locale.ROOT, "%.3f (95%% %.3f-%.3f, "
                         + "Clopper-Pearson)", (double) falseSkips / checked, clopperLow(falseSkips, checked),
                         clopperHigh(falseSkips, checked))));
+        if (settings.model().equals("quadratic")) {
+            out.add("Screen model pair terms: among the " + settings.pairPool() + " regions lesioned in the share of the "
+                    + "window's sets nearest one half (the most varied).");
+        }
         out.addAll(fits.notes());
         return out;
     }

@@ -135,6 +135,10 @@ public final class SurrogateStrategy implements Strategy {
                         + " (" + supersetSize + " regions: " + settings.supersetFactor() + " × its smallest critical "
                         + "prefix)",
                 settings.pool() > 0 ? " and its first " + settings.pool() + " regions" : "");
+        if (settings.model().equals("quadratic")) {
+            space += "; pair terms of the quadratic model among the space's first " + Math.min(settings.pairPool(), d)
+                    + " regions in ranking order";
+        }
         int[] pairPool = new int[Math.min(settings.pairPool(), d)];
         for (int i = 0; i < pairPool.length; i++) {
             pairPool[i] = i;

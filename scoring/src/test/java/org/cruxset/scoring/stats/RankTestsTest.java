@@ -1,0 +1,198 @@
+package org.cruxset.scoring.stats;
+
+import static org.junit.jupiter.api.Assertions.assertEquals;
+import static org.junit.jupiter.api.Assertions.assertTrue;
+
+import com.fasterxml.jackson.databind.JsonNode;
+import com.fasterxml.jackson.databind.json.JsonMapper;
+import java.nio.file.Path;
+import java.util.ArrayList;
+import java.util.List;
+import java.util.Map;
+import java.util.SplittableRandom;
+import org.cruxset.scoring.testing.ExternalTools;
+import org.junit.jupiter.api.Test;
+import org.junit.jupiter.api.io.TempDir;
+
+class RankTestsTest {
+    private static final JsonMapper JSON = new JsonMapper();
+
+    @TempDir
+    Path dir;
+
+    private static final String REFERENCE = """
+            import json, sys
+            from scipy.stats import wilcoxon, mannwhitneyu, kendalltau, spearmanr
+            cases = json.load(open(sys.argv[1]))
+            out = {"wilcoxon": [], "mwu": [], "tau": [], "rho": []}
+            for x, y in cases["paired"]:
+                r = wilcoxon(x, y, method="exact", alternative="two-sided")
+                out["wilcoxon"].append(float(r.pvalue))
+            for x, y in cases["unpaired"]:
+                r = mannwhitneyu(x, y, method="exact", alternative="two-sided")
+                out["mwu"].append([float(r.statistic), float(r.pvalue)])
+            for x, y in cases["tied"]:
+                out["tau"].append(float(kendalltau(x, y).statistic))
+                out["rho"].append(float(spearmanr(x, y).statistic))
+            print(json.dumps(out))
+            """;
+
+    /** Distinct values (no ties, no zero differences), so SciPy's exact methods apply. */
+    private static double[] distinct(SplittableRandom rng, int n, double shift) {
+        double[] v = new double[n];
+        for (int i = 0; i < n; i++) {
+            v[i] = Math.round((rng.nextDouble() * 10 + shift) * 1e6) / 1e6 + i * 1e-7;
+        }
+        return v;
+    }
+
+    // Source: SciPy's wilcoxon and mannwhitneyu (method="exact", no ties: the exact null distributions), kendalltau
+    // (tau-b) and spearmanr (midranks), Debian's python3-scipy.
+    @Test
+    void agreesWithSciPy() throws Exception {
+        Path python = ExternalTools.requirePython("scipy");
+        SplittableRandom rng = new SplittableRandom(11);
+        List<double[][]> paired = new ArrayList<>();
+        List<double[][]> unpaired = new ArrayList<>();
+        List<double[][]> tied = new ArrayList<>();
+        for (int c = 0; c < 20; c++) {
+            int n = 5 + rng.nextInt(16);
+            paired.add(new double[][] {distinct(rng, n, c % 3), distinct(rng, n, 0)});
+            unpaired.add(new double[][] {distinct(rng, 3 + rng.nextInt(10), c % 4), distinct(rng, 3 + rng.nextInt(10),
+                    0)});
+            double[] a = new double[n];
+            double[] b = new double[n];
+            for (int i = 0; i < n; i++) {
+                a[i] = rng.nextInt(5);
+                b[i] = a[i] + rng.nextInt(4);
+            }
+            tied.add(new double[][] {a, b});
+        }
+        Path cases = dir.resolve("cases.json");
+        JSON.writeValue(cases.toFile(), Map.of("paired", paired, "unpaired", unpaired, "tied", tied));
+        JsonNode ref = JSON.readTree(ExternalTools.runPython(python, dir, REFERENCE, cases.toString()));
+        for (int c = 0; c < 20; c++) {
+            double[][] p = paired.get(c);
+            assertEquals(ref.get("wilcoxon").get(c).asDouble(), RankTests.wilcoxonSignedRank(p[0], p[1], true).pValue(),
+                    1e-9, "Wilcoxon case " + c);
+            double[][] u = unpaired.get(c);
+            RankTests.Result mw = RankTests.mannWhitneyU(u[0], u[1]);
+            assertEquals(ref.get("mwu").get(c).get(0).asDouble(), mw.statistic(), 1e-9, "U case " + c);
+            assertEquals(ref.get("mwu").get(c).get(1).asDouble(), mw.pValue(), 1e-9, "Mann-Whitney case " + c);
+            double[][] t = tied.get(c);
+            assertEquals(ref.get("tau").get(c).asDouble(), RankTests.kendallTauB(t[0], t[1]), 1e-12, "tau-b case " + c);
+            assertEquals(ref.get("rho").get(c).asDouble(), RankTests.spearman(t[0], t[1]), 1e-12, "rho case " + c);
+        }
+    }
+
+    // Source: the definition of the exact permutation test (common practice): every sign assignment of the non-zero
+    // differences (Pratt: zeros ranked, then left out) and every split of the pooled sample equally likely, enumerated
+    // here by brute force on data full of ties and zeros, as strategy comparisons over integer set sizes produce.
+    @Test
+    void tiesAndZerosMatchBruteForceEnumeration() {
+        SplittableRandom rng = new SplittableRandom(3);
+        for (int c = 0; c < 30; c++) {
+            int n = 4 + rng.nextInt(11);
+            double[] x = new double[n];
+            double[] y = new double[n];
+            for (int i = 0; i < n; i++) {
+                x[i] = 10 + rng.nextInt(4);
+                y[i] = 10 + rng.nextInt(4);
+            }
+            for (boolean pratt : new boolean[] {true, false}) {
+                assertEquals(bruteWilcoxon(x, y, pratt), RankTests.wilcoxonSignedRank(x, y, pratt).pValue(), 1e-12,
+                        "case " + c + " pratt " + pratt);
+            }
+            int n2 = 3 + rng.nextInt(7);
+            double[] z = new double[n2];
+            for (int i = 0; i < n2; i++) {
+                z[i] = 10 + rng.nextInt(4);
+            }
+            double[] xs = java.util.Arrays.copyOf(x, Math.min(n, 9));
+            assertEquals(bruteMannWhitney(xs, z), RankTests.mannWhitneyU(xs, z).pValue(), 1e-12, "case " + c);
+        }
+        // All differences zero: nothing to test.
+        assertEquals(1.0, RankTests.wilcoxonSignedRank(new double[] {3, 4}, new double[] {3, 4}, true).pValue());
+    }
+
+    // Source: hand calculation. Differences (1, 2, 3, 4, 5), all positive: W+ = 15 is the largest of 2^5 equally
+    // likely sums, and so is W+ = 0 at the other end, so p = 2/32.
+    @Test
+    void aHandExample() {
+        RankTests.Result r = RankTests.wilcoxonSignedRank(new double[] {1, 2, 3, 4, 5}, new double[5], true);
+        assertEquals(15, r.statistic());
+        assertEquals(2.0 / 32, r.pValue(), 1e-15);
+        // U for x = (1, 2), y = (3, 4): no pair with x > y; the split is the most extreme of C(4, 2) = 6, p = 2/6.
+        RankTests.Result u = RankTests.mannWhitneyU(new double[] {1, 2}, new double[] {3, 4});
+        assertEquals(0, u.statistic());
+        assertEquals(2.0 / 6, u.pValue(), 1e-15);
+        assertTrue(Double.isNaN(RankTests.kendallTauB(new double[] {1, 1, 1}, new double[] {1, 2, 3})));
+        assertEquals(-1.0, RankTests.spearman(new double[] {1, 2, 3}, new double[] {3, 2, 1}), 1e-15);
+    }
+
+    private static double bruteWilcoxon(double[] x, double[] y, boolean pratt) {
+        List<Double> d = new ArrayList<>();
+        for (int i = 0; i < x.length; i++) {
+            if (pratt || x[i] != y[i]) {
+                d.add(x[i] - y[i]);
+            }
+        }
+        double[] abs = d.stream().mapToDouble(Math::abs).toArray();
+        double[] r = RankTests.midranks(abs);
+        List<Double> ranks = new ArrayList<>();
+        double observed = 0;
+        for (int i = 0; i < r.length; i++) {
+            if (d.get(i) != 0) {
+                ranks.add(r[i]);
+                observed += d.get(i) > 0 ? r[i] : 0;
+            }
+        }
+        int m = ranks.size();
+        if (m == 0) {
+            return 1;
+        }
+        double total = ranks.stream().mapToDouble(Double::doubleValue).sum();
+        double centre = total / 2;
+        int extreme = 0;
+        for (int mask = 0; mask < 1 << m; mask++) {
+            double w = 0;
+            for (int i = 0; i < m; i++) {
+                if ((mask >> i & 1) == 1) {
+                    w += ranks.get(i);
+                }
+            }
+            extreme += Math.abs(w - centre) >= Math.abs(observed - centre) - 1e-9 ? 1 : 0;
+        }
+        return Math.min(1, (double) extreme / (1 << m));
+    }
+
+    private static double bruteMannWhitney(double[] x, double[] y) {
+        int n1 = x.length;
+        int n = n1 + y.length;
+        double[] pooled = new double[n];
+        System.arraycopy(x, 0, pooled, 0, n1);
+        System.arraycopy(y, 0, pooled, n1, y.length);
+        double[] r = RankTests.midranks(pooled);
+        double observed = 0;
+        for (int i = 0; i < n1; i++) {
+            observed += r[i];
+        }
+        double centre = n1 * (n + 1) / 2.0;
+        long extreme = 0;
+        long all = 0;
+        for (int mask = 0; mask < 1 << n; mask++) {
+            if (Integer.bitCount(mask) != n1) {
+                continue;
+            }
+            double s = 0;
+            for (int i = 0; i < n; i++) {
+                if ((mask >> i & 1) == 1) {
+                    s += r[i];
+                }
+            }
+            all++;
+            extreme += Math.abs(s - centre) >= Math.abs(observed - centre) - 1e-9 ? 1 : 0;
+        }
+        return (double) extreme / all;
+    }
+}
