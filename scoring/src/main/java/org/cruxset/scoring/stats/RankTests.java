@@ -206,6 +206,95 @@ public final class RankTests {
         return denominator == 0 ? Double.NaN : (concordant - discordant) / denominator;
     }
 
+    /**
+     * The smallest p-value a two-sided exact Wilcoxon signed-rank test can give on {@code pairs} non-zero paired
+     * differences, 2 / 2^pairs (every difference of one sign), after Holm's correction for {@code comparisons} tests:
+     * min(1, comparisons × 2 / 2^pairs). Below a chosen α nothing can be claimed, whatever the data.
+     */
+    public static double smallestHolmWilcoxonP(int pairs, int comparisons) {
+        if (pairs < 1 || comparisons < 1) {
+            throw new IllegalArgumentException("need at least one pair and one comparison, found " + pairs + " and "
+                    + comparisons);
+        }
+        return Math.min(1, comparisons * 2 / Math.pow(2, pairs));
+    }
+
+    /** The fewest non-zero pairs for which {@link #smallestHolmWilcoxonP} can reach {@code alpha}. */
+    public static int pairsNeeded(int comparisons, double alpha) {
+        if (!(alpha > 0 && alpha < 1) || comparisons < 1) {
+            throw new IllegalArgumentException("alpha must be within (0, 1) and comparisons at least 1");
+        }
+        int n = 1;
+        while (smallestHolmWilcoxonP(n, comparisons) > alpha) {
+            n++;
+        }
+        return n;
+    }
+
+    /** A statistic of paired values, e.g. {@link #spearman} or {@link #kendallTauB}. */
+    public interface PairedStatistic {
+        double of(double[] x, double[] y);
+    }
+
+    /**
+     * A percentile bootstrap interval at {@code level} for {@code statistic} of the pairs (x_i, y_i): {@code reps}
+     * resamples of the pairs with replacement from {@code seed}; resamples on which the statistic is undefined (NaN,
+     * e.g. a constant side) are left out and their number is the third element of the result.
+     */
+    public static double[] bootstrapInterval(double[] x, double[] y, PairedStatistic statistic, int reps, long seed,
+                                             double level) {
+        requirePaired(x, y);
+        if (reps < 10 || !(level > 0 && level < 1)) {
+            throw new IllegalArgumentException("need at least 10 resamples and a level within (0, 1)");
+        }
+        java.util.SplittableRandom rng = new java.util.SplittableRandom(seed);
+        int n = x.length;
+        double[] values = new double[reps];
+        int kept = 0;
+        double[] bx = new double[n];
+        double[] by = new double[n];
+        for (int r = 0; r < reps; r++) {
+            for (int i = 0; i < n; i++) {
+                int j = rng.nextInt(n);
+                bx[i] = x[j];
+                by[i] = y[j];
+            }
+            double v = statistic.of(bx, by);
+            if (!Double.isNaN(v)) {
+                values[kept++] = v;
+            }
+        }
+        if (kept == 0) {
+            return new double[] {Double.NaN, Double.NaN, reps};
+        }
+        double[] sorted = Arrays.copyOf(values, kept);
+        Arrays.sort(sorted);
+        double tail = (1 - level) / 2;
+        return new double[] {quantile(sorted, tail), quantile(sorted, 1 - tail), reps - kept};
+    }
+
+    /** The Jaccard index |A ∩ B| / |A ∪ B| of two sets of unit indices (1 when both are empty). */
+    public static double jaccard(java.util.Set<Integer> a, java.util.Set<Integer> b) {
+        java.util.Set<Integer> union = new java.util.HashSet<>(a);
+        union.addAll(b);
+        if (union.isEmpty()) {
+            return 1;
+        }
+        int common = 0;
+        for (int v : a) {
+            common += b.contains(v) ? 1 : 0;
+        }
+        return (double) common / union.size();
+    }
+
+    /** The quantile of sorted values by linear interpolation between order statistics (type 7, common practice). */
+    static double quantile(double[] sorted, double q) {
+        double h = (sorted.length - 1) * q;
+        int lo = (int) Math.floor(h);
+        int hi = Math.min(sorted.length - 1, lo + 1);
+        return sorted[lo] + (h - lo) * (sorted[hi] - sorted[lo]);
+    }
+
     private static double pearson(double[] a, double[] b) {
         int n = a.length;
         double ma = 0;

@@ -130,6 +130,38 @@ class RankTestsTest {
         assertEquals(-1.0, RankTests.spearman(new double[] {1, 2, 3}, new double[] {3, 2, 1}), 1e-15);
     }
 
+    // Source: hand calculation. With 10 paired seeds the exact two-sided Wilcoxon p is at least 2/2^10; Holm over 3
+    // comparisons multiplies the smallest by 3: 6/1024. Reaching 0.05 over 3 comparisons needs 7 pairs (6/128 = 0.047;
+    // 6 pairs give 6/64 = 0.094).
+    @Test
+    void theSmallestAttainableHolmAdjustedP() {
+        assertEquals(6.0 / 1024, RankTests.smallestHolmWilcoxonP(10, 3), 1e-15);
+        assertEquals(7, RankTests.pairsNeeded(3, 0.05));
+        assertEquals(6, RankTests.pairsNeeded(1, 0.05));
+        double[] x = {1, 2, 3, 4, 5, 6, 7, 8, 9, 10};
+        double[] y = {0, 0, 0, 0, 0, 0, 0, 0, 0, 0};
+        assertEquals(RankTests.smallestHolmWilcoxonP(10, 1), RankTests.wilcoxonSignedRank(x, y, true).pValue(), 1e-15);
+    }
+
+    // Source: the percentile bootstrap (Efron & Tibshirani 1993, from memory); checked here by its defining
+    // properties: seeded, a perfect monotone relation gives [1, 1], and the interval holds the point estimate.
+    @Test
+    void bootstrapIntervalsAreSeededAndSane() {
+        double[] x = {1, 2, 3, 4, 5, 6, 7, 8};
+        double[] y = {2, 4, 6, 8, 10, 12, 14, 16};
+        double[] ci = RankTests.bootstrapInterval(x, y, RankTests::spearman, 500, 1, 0.95);
+        assertEquals(1.0, ci[0], 1e-12);
+        assertEquals(1.0, ci[1], 1e-12);
+        double[] z = {3, 1, 4, 1, 5, 9, 2, 6};
+        double[] a = RankTests.bootstrapInterval(x, z, RankTests::kendallTauB, 2000, 7, 0.95);
+        double[] b = RankTests.bootstrapInterval(x, z, RankTests::kendallTauB, 2000, 7, 0.95);
+        assertEquals(a[0], b[0], 0);
+        assertEquals(a[1], b[1], 0);
+        double tau = RankTests.kendallTauB(x, z);
+        assertTrue(a[0] <= tau && tau <= a[1], java.util.Arrays.toString(a) + " " + tau);
+        assertEquals(1.0 / 3, RankTests.jaccard(java.util.Set.of(1, 2), java.util.Set.of(2, 3)), 1e-15);
+    }
+
     private static double bruteWilcoxon(double[] x, double[] y, boolean pratt) {
         List<Double> d = new ArrayList<>();
         for (int i = 0; i < x.length; i++) {
