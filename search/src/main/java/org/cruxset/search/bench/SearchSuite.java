@@ -14,14 +14,11 @@ import org.cruxset.scoring.lesion.RegionSet;
 import org.cruxset.search.SearchConfig;
 import org.cruxset.search.SearchRun;
 import org.cruxset.search.Strategy;
+import org.cruxset.search.StrategySpec;
 import org.cruxset.search.strategy.GeneticStrategy;
-import org.cruxset.search.strategy.GrowStrategy;
 import org.cruxset.search.strategy.LocalStrategy;
-import org.cruxset.search.strategy.RandomStrategy;
-import org.cruxset.search.strategy.RankedStrategy;
 import org.cruxset.search.strategy.SurrogateFits;
 import org.cruxset.search.strategy.SurrogateScreen;
-import org.cruxset.search.strategy.SurrogateStrategy;
 
 /**
  * The search benchmark: strategies run on {@link PlantedProblem} instances (one per seed, each run in a fresh store,
@@ -101,22 +98,6 @@ public final class SearchSuite {
     private SearchSuite() {
     }
 
-    /** The strategy behind a suite name, and whether its best sets are pruned afterwards. */
-    static Strategy strategy(String name, SearchConfig settings) {
-        SurrogateScreen screen = name.contains("~screen") ? new SurrogateScreen(settings.screen()) : null;
-        return switch (name.replace("~race", "").replace("~screen", "")) {
-            case "random" -> new RandomStrategy();
-            case "grow", "grow+prune" -> new GrowStrategy(false, false);
-            case "grow-lazy+prune" -> new GrowStrategy(false, true);
-            case "ranked+prune" -> new RankedStrategy(null);
-            case "local" -> new LocalStrategy(settings.local(), null, screen);
-            case "genetic" -> new GeneticStrategy(settings.genetic(), null, screen);
-            case "surrogate" -> new SurrogateStrategy(settings.surrogate(), null);
-            default -> throw new IllegalArgumentException("unknown suite strategy '" + name + "', expected one of "
-                    + STRATEGIES);
-        };
-    }
-
     /** Runs {@code strategy} on the instance of {@code seed} with {@code budget} scored sets, in a store in {@code dir}. */
     public static Run runOne(PlantedProblem.Config config, SearchConfig strategies, String strategy, long seed,
                              long budget, Path dir) {
@@ -127,16 +108,13 @@ public final class SearchSuite {
                 Parts.DEFAULT_SEED, Parts.DEFAULT_CONFIRM);
         try (Decoder decoder = p.decoder(); ScoringSession session = ScoringSession.open(decoder, p.cohort(), settings)) {
             PlantedProblem.Proof proof = p.proof(PlantedProblem.ids(session.inputs().batch()), criterion);
-            String base = strategy.replace("~race", "").replace("~screen", "");
-            boolean race = strategy.contains("~race");
-            boolean prune = base.endsWith("+prune") || base.equals("random") || base.equals("genetic")
-                    || base.equals("local") || base.equals("surrogate");
+            StrategySpec spec = StrategySpec.parse(strategy);
             long t0 = System.nanoTime();
             long[] decisions = new long[2];
-            Strategy chosen = strategy(strategy, strategies);
+            Strategy chosen = spec.create(strategies);
             SearchRun.Result r = SearchRun.run(session, chosen,
-                    new SearchRun.Settings(Double.POSITIVE_INFINITY, null, seed, prune, 5,
-                            SearchRun.Settings.DEFAULT_RESERVE, race), ctx -> {
+                    new SearchRun.Settings(Double.POSITIVE_INFINITY, null, seed, spec.prune(), 5,
+                            SearchRun.Settings.DEFAULT_RESERVE, spec.race()), ctx -> {
                         decisions[0] = ctx.decisions();
                         decisions[1] = ctx.racedDecisions();
                     });

@@ -1,0 +1,247 @@
+package org.cruxset.search.cli;
+
+import java.io.PrintWriter;
+import java.nio.file.Path;
+import java.util.ArrayList;
+import java.util.Arrays;
+import java.util.LinkedHashMap;
+import java.util.List;
+import java.util.Locale;
+import java.util.Map;
+import java.util.concurrent.Callable;
+import org.cruxset.scoring.cohort.Cohort;
+import org.cruxset.scoring.decoder.Decoder;
+import org.cruxset.scoring.eval.ScoringSession;
+import org.cruxset.scoring.eval.SetScore;
+import org.cruxset.scoring.stats.PairedTests;
+import org.cruxset.scoring.stats.RankTests;
+import org.cruxset.search.Hypervolume;
+import org.cruxset.search.SearchConfig;
+import org.cruxset.search.SearchRun;
+import org.cruxset.search.StrategySpec;
+import picocli.CommandLine;
+import picocli.CommandLine.Command;
+import picocli.CommandLine.Mixin;
+import picocli.CommandLine.Model.CommandSpec;
+import picocli.CommandLine.Option;
+import picocli.CommandLine.Spec;
+
+/**
+ * {@code cruxset compare}: strategies × seeds on equal budgets, on the same model, cohort, lesion mode, criterion and
+ * search/confirmation split, all runs in one results store (a set one run decoded is reused by the others but
+ * charged to each run that asks for it), with per-strategy summaries and paired tests between strategies.
+ */
+@Command(name = "compare", mixinStandardHelpOptions = true,
+        description = {"Run strategies × seeds on equal budgets and compare them: best critical size (median and IQR), "
+                + "success against a known minimum, scored sets to the first critical set and to the best size, front "
+                + "hypervolume, time measured and decoder-equivalent; between strategies the Wilcoxon signed-rank test "
+                + "of best sizes paired by seed (exact, zeros by Pratt's method), Holm-corrected.",
+            "",
+            "Every run goes through the one scorer, budget and store; a run is charged for every set it asks for, "
+                + "whoever decoded it first. Kill it at any time: the same command resumes every run."})
+public final class CompareCommand implements Callable<Integer> {
+    @Spec
+    CommandSpec spec;
+
+    @Mixin
+    ModelOptions model;
+
+    @Mixin
+    CohortOptions cohort;
+
+    @Mixin
+    ScoringOptions scoring;
+
+    @Option(names = "--strategies", split = ",", defaultValue = "grow+prune,genetic,local,surrogate",
+            paramLabel = "NAMES", description = "Strategies to compare (as bench names them: random, grow, grow+prune, "
+                    + "ranked+prune, genetic, local, surrogate, with ~race and, for genetic and local, ~screen). "
+                    + "Default: ${DEFAULT-VALUE}.")
+    List<String> strategies;
+
+    @Option(names = "--seeds", defaultValue = "10", paramLabel = "N", description = "Seeds 1..N per strategy. "
+            + "Default: ${DEFAULT-VALUE}.")
+    int seeds;
+
+    @Option(names = "--budget", required = true, paramLabel = "N", description = "Scored sets of the search part per "
+            + "run.")
+    long budget;
+
+    @Option(names = "--minimum", paramLabel = "K", description = "A known smallest critical size, for success rates.")
+    Integer minimum;
+
+    @Option(names = "--config", paramLabel = "YAML", description = "Strategy settings (as for search).")
+    Path config;
+
+    /** One run's outcome. */
+    record Outcome(String strategy, long seed, int best, double firstCritical, double toBest, double charged,
+                   double hypervolume, double seconds, long decoded) {
+    }
+
+    @Override
+    public Integer call() {
+        PrintWriter pw = spec.commandLine().getOut();
+        if (seeds < 1 || budget < 1) {
+            throw new CommandLine.ParameterException(spec.commandLine(), "--seeds and --budget must be at least 1");
+        }
+        List<StrategySpec> specs = new ArrayList<>();
+        for (String s : strategies) {
+            try {
+                specs.add(StrategySpec.parse(s.trim()));
+            } catch (IllegalArgumentException e) {
+                throw new CommandLine.ParameterException(spec.commandLine(), "--strategies: " + e.getMessage());
+            }
+        }
+        SearchConfig settings = SearchConfig.read(config);
+        Cohort c = cohort.read();
+        ProgressBar bar = new ProgressBar(spec.commandLine().getErr(), "compare");
+        List<Outcome> outcomes = new ArrayList<>();
+        int total = specs.size() * seeds;
+        int done = 0;
+        String intactLine = null;
+        try (Decoder decoder = model.open()) {
+            for (StrategySpec s : specs) {
+                for (long seed = 1; seed <= seeds; seed++) {
+                    bar.update(done, total, s.name() + " seed " + seed);
+                    String command = "compare " + s.name() + " seed " + seed + " budget " + budget;
+                    try (ScoringSession session = ScoringSession.open(decoder, c, scoring.settings("compare", command,
+                            seed, budget, model.threads()))) {
+                        if (intactLine == null) {
+                            Reports.header(pw, session);
+                            SetScore intact = session.intact().score();
+                            intactLine = String.format(Locale.ROOT, "Intact search-part accuracy %.3f (n = %d), "
+                                    + "chance %.3f. Critical means %s.", intact.accuracy(), intact.n(), intact.chance(),
+                                    session.settings().criterion().describe());
+                        }
+                        double[] first = {Double.NaN};
+                        SearchRun.Result r = SearchRun.run(session, s.create(settings), new SearchRun.Settings(
+                                Double.POSITIVE_INFINITY, null, seed, s.prune(), 20,
+                                SearchRun.Settings.DEFAULT_RESERVE, s.race()), ctx -> {
+                                    if (Double.isNaN(first[0]) && ctx.front().bestCriticalSize() > 0) {
+                                        first[0] = ctx.charged();
+                                    }
+                                });
+                        int regions = session.inputs().batch().regions();
+                        double hv = Hypervolume.ofFront(r.front(), regions, session.intact().score().accuracy(),
+                                SetScore::accuracy);
+                        outcomes.add(new Outcome(s.name(), seed, r.bestSize(), first[0], r.chargedAtBest(),
+                                r.charged(), hv, r.elapsedSeconds(), session.scorer().decodedCount()));
+                    }
+                    done++;
+                }
+            }
+        }
+        bar.done();
+        pw.println(intactLine);
+        print(pw, specs, outcomes);
+        pw.printf("%nResults: %s (every run's sets, traces, fronts and certificates; cruxset export --out %s)%n",
+                scoring.out().resolve(ScoringSession.STORE_FILE), scoring.out());
+        return 0;
+    }
+
+    private void print(PrintWriter pw, List<StrategySpec> specs, List<Outcome> outcomes) {
+        double seconds = outcomes.stream().mapToDouble(Outcome::seconds).sum();
+        long decoded = outcomes.stream().mapToLong(Outcome::decoded).sum();
+        double perSet = decoded == 0 ? Double.NaN : seconds / decoded;
+        pw.printf(Locale.ROOT, "%nBudget %d scored sets per run, seeds 1-%d. Decoder-equivalent time = sets charged × "
+                + "%.4f s, the measured search time per set decoded over all runs (so the order of the runs, and the "
+                + "sets a later run found in the store, do not favour it).%n", budget, seeds, perSet);
+        Map<String, List<Outcome>> by = new LinkedHashMap<>();
+        for (StrategySpec s : specs) {
+            by.put(s.name(), new ArrayList<>());
+        }
+        for (Outcome o : outcomes) {
+            by.get(o.strategy()).add(o);
+        }
+        List<String[]> rows = new ArrayList<>();
+        rows.add(new String[] {"strategy", "runs", "best size median [IQR]", minimum == null ? "success" : "reached "
+                + minimum, "sets to first critical (median)", "sets to best (median)", "hypervolume (median)",
+            "sets charged (median)", "seconds (median)", "decoder-equivalent s (median)"});
+        for (Map.Entry<String, List<Outcome>> e : by.entrySet()) {
+            List<Outcome> os = e.getValue();
+            double[] best = os.stream().mapToDouble(o -> o.best() < 0 ? Double.POSITIVE_INFINITY : o.best()).toArray();
+            long reached = minimum == null ? -1 : os.stream().filter(o -> o.best() == minimum).count();
+            rows.add(new String[] {e.getKey(), Integer.toString(os.size()),
+                fmt(quantile(best, 0.5)) + " [" + fmt(quantile(best, 0.25)) + ", " + fmt(quantile(best, 0.75)) + "]",
+                minimum == null ? "-" : reached + "/" + os.size(),
+                fmt(quantile(os.stream().mapToDouble(o -> Double.isNaN(o.firstCritical()) ? Double.POSITIVE_INFINITY
+                        : o.firstCritical()).toArray(), 0.5)),
+                fmt(quantile(os.stream().mapToDouble(o -> o.best() < 0 ? Double.POSITIVE_INFINITY : o.toBest())
+                        .toArray(), 0.5)),
+                String.format(Locale.ROOT, "%.4f", quantile(os.stream().mapToDouble(Outcome::hypervolume).toArray(), 0.5)),
+                fmt(quantile(os.stream().mapToDouble(Outcome::charged).toArray(), 0.5)),
+                String.format(Locale.ROOT, "%.1f", quantile(os.stream().mapToDouble(Outcome::seconds).toArray(), 0.5)),
+                String.format(Locale.ROOT, "%.1f", perSet * quantile(os.stream().mapToDouble(Outcome::charged)
+                        .toArray(), 0.5))});
+        }
+        Table.print(pw, rows);
+        List<String> names = new ArrayList<>(by.keySet());
+        if (names.size() < 2) {
+            return;
+        }
+        List<String> pairs = new ArrayList<>();
+        List<double[]> stats = new ArrayList<>();
+        for (int i = 0; i < names.size(); i++) {
+            for (int j = i + 1; j < names.size(); j++) {
+                double[] a = bestSizes(by.get(names.get(i)));
+                double[] b = bestSizes(by.get(names.get(j)));
+                RankTests.Result w = RankTests.wilcoxonSignedRank(a, b, true);
+                pairs.add(names.get(i) + " vs " + names.get(j));
+                stats.add(new double[] {w.statistic(), w.pValue(), quantile(diff(a, b), 0.5)});
+            }
+        }
+        double[] p = stats.stream().mapToDouble(x -> x[1]).toArray();
+        double[] holm = PairedTests.holm(p);
+        pw.printf("%nBest critical size between strategies, paired by seed (Wilcoxon signed-rank, two-sided, exact "
+                + "permutation distribution given the midranks, zero differences by Pratt's method; Holm-corrected over "
+                + "%d comparisons; a run without a critical set counts as larger than any):%n", pairs.size());
+        List<String[]> t = new ArrayList<>();
+        t.add(new String[] {"comparison", "median difference", "W+", "p", "Holm p"});
+        for (int k = 0; k < pairs.size(); k++) {
+            t.add(new String[] {pairs.get(k), fmt(stats.get(k)[2]), fmt(stats.get(k)[0]),
+                String.format(Locale.ROOT, "%.4g", p[k]), String.format(Locale.ROOT, "%.4g", holm[k])});
+        }
+        Table.print(pw, t);
+        pw.printf(Locale.ROOT, "With %d seeds the smallest Holm-adjusted p these %d comparisons can reach is %.4g; "
+                        + "reaching 0.05 needs at least %d seeds with non-zero differences.%n", seeds, pairs.size(),
+                RankTests.smallestHolmWilcoxonP(seeds, pairs.size()), RankTests.pairsNeeded(pairs.size(), 0.05));
+    }
+
+    private static double[] bestSizes(List<Outcome> os) {
+        double[] out = new double[os.size()];
+        for (int i = 0; i < out.length; i++) {
+            // A run without a critical set ranks above every run with one (one more than the largest size possible).
+            out[i] = os.get(i).best() < 0 ? 1e9 : os.get(i).best();
+        }
+        return out;
+    }
+
+    private static double[] diff(double[] a, double[] b) {
+        double[] d = new double[a.length];
+        for (int i = 0; i < d.length; i++) {
+            d[i] = a[i] - b[i];
+        }
+        return d;
+    }
+
+    private static double quantile(double[] v, double q) {
+        double[] s = v.clone();
+        Arrays.sort(s);
+        double h = (s.length - 1) * q;
+        int lo = (int) Math.floor(h);
+        int hi = Math.min(s.length - 1, lo + 1);
+        if (Double.isInfinite(s[lo]) || Double.isInfinite(s[hi])) {
+            return h - lo < 0.5 ? s[lo] : s[hi];
+        }
+        return s[lo] + (h - lo) * (s[hi] - s[lo]);
+    }
+
+    private static String fmt(double v) {
+        if (Double.isInfinite(v)) {
+            return "none";
+        }
+        if (Math.abs(v) >= 1e8) {
+            return "none";
+        }
+        return v == Math.rint(v) ? String.format(Locale.ROOT, "%.0f", v) : String.format(Locale.ROOT, "%.1f", v);
+    }
+}
