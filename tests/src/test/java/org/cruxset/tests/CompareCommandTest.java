@@ -31,6 +31,14 @@ class CompareCommandTest {
         return rows;
     }
 
+    static List<String> readLines(Path p) {
+        try {
+            return java.nio.file.Files.readAllLines(p);
+        } catch (java.io.IOException e) {
+            throw new java.io.UncheckedIOException(e);
+        }
+    }
+
     @Test
     void comparesStrategiesOnEqualBudgetsAndResumes(@TempDir Path out) {
         Cli.Run first = Cli.run(args(out)).requireSuccess();
@@ -44,6 +52,14 @@ class CompareCommandTest {
         assertTrue(o.contains("grow+prune~race vs surrogate~race"), o);
         assertTrue(o.contains("the smallest Holm-adjusted p these 1 comparisons can reach is 0.5000"), o);
         assertTrue(o.contains("reaching 0.05 needs at least 6 seeds"), o);
+        List<String> perRun = readLines(out.resolve("compare-runs.tsv"));
+        assertEquals(5, perRun.size(), "a header and four runs: " + perRun);
+        assertTrue(perRun.get(0).startsWith("strategy\tseed\tbest_size"), perRun.get(0));
+        List<String> anytime = readLines(out.resolve("compare-anytime.tsv"));
+        assertTrue(anytime.size() >= 5, "every run's curve reaches its best size: " + anytime);
+        for (String line : anytime.subList(1, anytime.size())) {
+            assertTrue(Integer.parseInt(line.split("\t")[3]) >= 4, line);
+        }
         Cli.Run again = Cli.run(args(out)).requireSuccess();
         assertEquals(table, rows(again.out()), "a rerun replays every run from the store to the same results");
         Cli.Run bad = Cli.run("compare", "--model", DemoData.MODEL.toString(), "--cohort", DemoData.COHORT.toString(),

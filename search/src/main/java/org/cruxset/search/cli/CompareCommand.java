@@ -74,7 +74,8 @@ public final class CompareCommand implements Callable<Integer> {
 
     /** One run's outcome. */
     record Outcome(String strategy, long seed, int best, double firstCritical, double toBest, double charged,
-                   double hypervolume, double seconds, long decoded) {
+                   double hypervolume, double seconds, long decoded, int reported, int confirmed, int certified,
+                   List<double[]> anytime) {
     }
 
     @Override
@@ -113,18 +114,34 @@ public final class CompareCommand implements Callable<Integer> {
                                     session.settings().criterion().describe());
                         }
                         double[] first = {Double.NaN};
+                        List<double[]> anytime = new ArrayList<>();
                         SearchRun.Result r = SearchRun.run(session, s.create(settings), new SearchRun.Settings(
                                 Double.POSITIVE_INFINITY, null, seed, s.prune(), 20,
                                 SearchRun.Settings.DEFAULT_RESERVE, s.race()), ctx -> {
-                                    if (Double.isNaN(first[0]) && ctx.front().bestCriticalSize() > 0) {
+                                    int b = ctx.front().bestCriticalSize();
+                                    if (Double.isNaN(first[0]) && b > 0) {
                                         first[0] = ctx.charged();
                                     }
+                                    if (b > 0 && (anytime.isEmpty() || anytime.get(anytime.size() - 1)[1] != b)) {
+                                        anytime.add(new double[] {ctx.charged(), b});
+                                    }
                                 });
+                        int confirmed = 0;
+                        int certified = 0;
+                        for (SearchRun.Reported x : r.reported()) {
+                            confirmed += Boolean.TRUE.equals(x.confirmationCritical()) ? 1 : 0;
+                            certified += x.certificate() != null ? 1 : 0;
+                        }
                         int regions = session.inputs().batch().regions();
                         double hv = Hypervolume.ofFront(r.front(), regions, session.intact().score().accuracy(),
                                 SetScore::accuracy);
+                        if (r.bestSize() > 0 && (anytime.isEmpty()
+                                || anytime.get(anytime.size() - 1)[1] != r.bestSize())) {
+                            anytime.add(new double[] {r.chargedAtBest(), r.bestSize()});
+                        }
                         outcomes.add(new Outcome(s.name(), seed, r.bestSize(), first[0], r.chargedAtBest(),
-                                r.charged(), hv, r.elapsedSeconds(), session.scorer().decodedCount()));
+                                r.charged(), hv, r.elapsedSeconds(), session.scorer().decodedCount(),
+                                r.reported().size(), confirmed, certified, anytime));
                     }
                     done++;
                 }
@@ -133,7 +150,10 @@ public final class CompareCommand implements Callable<Integer> {
         bar.done();
         pw.println(intactLine);
         print(pw, specs, outcomes);
-        pw.printf("%nResults: %s (every run's sets, traces, fronts and certificates; cruxset export --out %s)%n",
+        writeTsv(scoring.out().resolve("compare-runs.tsv"), scoring.out().resolve("compare-anytime.tsv"), outcomes);
+        pw.printf("%nPer run: %s; anytime curves (sets charged -> best critical size): %s.%n",
+                scoring.out().resolve("compare-runs.tsv"), scoring.out().resolve("compare-anytime.tsv"));
+        pw.printf("Results: %s (every run's sets, traces, fronts and certificates; cruxset export --out %s)%n",
                 scoring.out().resolve(ScoringSession.STORE_FILE), scoring.out());
         return 0;
     }
@@ -155,7 +175,8 @@ public final class CompareCommand implements Callable<Integer> {
         List<String[]> rows = new ArrayList<>();
         rows.add(new String[] {"strategy", "runs", "best size median [IQR]", minimum == null ? "success" : "reached "
                 + minimum, "sets to first critical (median)", "sets to best (median)", "hypervolume (median)",
-            "sets charged (median)", "seconds (median)", "decoder-equivalent s (median)"});
+            "sets charged (median)", "seconds (median)", "decoder-equivalent s (median)",
+            "reported sets confirmed / certified"});
         for (Map.Entry<String, List<Outcome>> e : by.entrySet()) {
             List<Outcome> os = e.getValue();
             double[] best = os.stream().mapToDouble(o -> o.best() < 0 ? Double.POSITIVE_INFINITY : o.best()).toArray();
@@ -171,7 +192,9 @@ public final class CompareCommand implements Callable<Integer> {
                 fmt(quantile(os.stream().mapToDouble(Outcome::charged).toArray(), 0.5)),
                 String.format(Locale.ROOT, "%.1f", quantile(os.stream().mapToDouble(Outcome::seconds).toArray(), 0.5)),
                 String.format(Locale.ROOT, "%.1f", perSet * quantile(os.stream().mapToDouble(Outcome::charged)
-                        .toArray(), 0.5))});
+                        .toArray(), 0.5)),
+                os.stream().mapToInt(Outcome::confirmed).sum() + "/" + os.stream().mapToInt(Outcome::reported).sum()
+                        + " / " + os.stream().mapToInt(Outcome::certified).sum()});
         }
         Table.print(pw, rows);
         List<String> names = new ArrayList<>(by.keySet());
@@ -204,6 +227,32 @@ public final class CompareCommand implements Callable<Integer> {
         pw.printf(Locale.ROOT, "With %d seeds the smallest Holm-adjusted p these %d comparisons can reach is %.4g; "
                         + "reaching 0.05 needs at least %d seeds with non-zero differences.%n", seeds, pairs.size(),
                 RankTests.smallestHolmWilcoxonP(seeds, pairs.size()), RankTests.pairsNeeded(pairs.size(), 0.05));
+    }
+
+    private static void writeTsv(Path runs, Path anytime, List<Outcome> outcomes) {
+        StringBuilder a = new StringBuilder("strategy\tseed\tbest_size\tsets_to_first_critical\tsets_to_best\t"
+                + "sets_charged\thypervolume\tseconds\treported\tconfirmed\tcertified\n");
+        StringBuilder b = new StringBuilder("strategy\tseed\tsets_charged\tbest_critical_size\n");
+        for (Outcome o : outcomes) {
+            a.append(String.join("\t", o.strategy(), Long.toString(o.seed()), o.best() < 0 ? "" : Integer.toString(
+                    o.best()), num(o.firstCritical()), o.best() < 0 ? "" : num(o.toBest()), num(o.charged()),
+                    num(o.hypervolume()), num(o.seconds()), Integer.toString(o.reported()),
+                    Integer.toString(o.confirmed()), Integer.toString(o.certified()))).append('\n');
+            for (double[] p : o.anytime()) {
+                b.append(o.strategy()).append('\t').append(o.seed()).append('\t').append(num(p[0])).append('\t')
+                        .append((int) p[1]).append('\n');
+            }
+        }
+        try {
+            java.nio.file.Files.writeString(runs, a);
+            java.nio.file.Files.writeString(anytime, b);
+        } catch (java.io.IOException e) {
+            throw new java.io.UncheckedIOException("cannot write " + runs + " or " + anytime + ": " + e.getMessage(), e);
+        }
+    }
+
+    private static String num(double v) {
+        return Double.isNaN(v) ? "" : Double.toString(v);
     }
 
     private static double[] bestSizes(List<Outcome> os) {
