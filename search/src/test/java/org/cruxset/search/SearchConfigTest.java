@@ -30,4 +30,16 @@ class SearchConfigTest {
         Exception e = assertThrows(RuntimeException.class, () -> SearchConfig.read(file));
         assertTrue(e.getMessage().contains("focus"), e.getMessage());
     }
+
+    @Test
+    void theOvernightPlanParsesAndBadStrategyNamesAreNamed(@TempDir Path dir) throws Exception {
+        SearchConfig c = SearchConfig.read(Path.of("..", "configs", "overnight.yaml"));
+        assertEquals(5, c.compare().strategies().size());
+        assertEquals(20_000L, c.compare().budget());
+        assertEquals(SearchConfig.defaults().genetic(), c.genetic(), "strategy settings keep their defaults");
+        Path file = dir.resolve("bad.yaml");
+        Files.writeString(file, "compare: {strategies: [genetic, annealing]}\n");
+        Exception e = assertThrows(RuntimeException.class, () -> SearchConfig.read(file));
+        assertTrue(e.getMessage().contains("annealing"), e.getMessage());
+    }
 }

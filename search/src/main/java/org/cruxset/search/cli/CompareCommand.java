@@ -52,24 +52,25 @@ public final class CompareCommand implements Callable<Integer> {
     @Mixin
     ScoringOptions scoring;
 
-    @Option(names = "--strategies", split = ",", defaultValue = "grow+prune,genetic,local,surrogate",
-            paramLabel = "NAMES", description = "Strategies to compare (as bench names them: random, grow, grow+prune, "
-                    + "ranked+prune, genetic, local, surrogate, with ~race and, for genetic and local, ~screen). "
-                    + "Default: ${DEFAULT-VALUE}.")
+    @Option(names = "--strategies", split = ",", paramLabel = "NAMES", description = "Strategies to compare (as bench "
+            + "names them: random, grow, grow+prune, ranked+prune, genetic, local, surrogate, with ~race and, for "
+            + "genetic and local, ~screen). Default: the config's compare section, else grow+prune,genetic,local,"
+            + "surrogate.")
     List<String> strategies;
 
-    @Option(names = "--seeds", defaultValue = "10", paramLabel = "N", description = "Seeds 1..N per strategy. "
-            + "Default: ${DEFAULT-VALUE}.")
-    int seeds;
+    @Option(names = "--seeds", paramLabel = "N", description = "Seeds 1..N per strategy. Default: the config's, else 10.")
+    Integer seeds;
 
-    @Option(names = "--budget", required = true, paramLabel = "N", description = "Scored sets of the search part per "
-            + "run.")
-    long budget;
+    @Option(names = "--budget", paramLabel = "N", description = "Scored sets of the search part per run (required here "
+            + "or in the config).")
+    Long budget;
 
     @Option(names = "--minimum", paramLabel = "K", description = "A known smallest critical size, for success rates.")
     Integer minimum;
 
-    @Option(names = "--config", paramLabel = "YAML", description = "Strategy settings (as for search).")
+    @Option(names = "--config", paramLabel = "YAML", description = "The plan (compare: {strategies, seeds, budget, "
+            + "minimum}) and strategy settings, as for search; e.g. configs/overnight.yaml. Options given on the "
+            + "command line win.")
     Path config;
 
     /** One run's outcome. */
@@ -81,6 +82,16 @@ public final class CompareCommand implements Callable<Integer> {
     @Override
     public Integer call() {
         PrintWriter pw = spec.commandLine().getOut();
+        SearchConfig settings = SearchConfig.read(config);
+        SearchConfig.Compare plan = settings.compare();
+        strategies = strategies != null ? strategies : plan.strategies();
+        seeds = seeds != null ? seeds : plan.seeds();
+        budget = budget != null ? budget : plan.budget();
+        minimum = minimum != null ? minimum : plan.minimum();
+        if (budget == null) {
+            throw new CommandLine.ParameterException(spec.commandLine(), "give a budget: --budget N, or budget in the "
+                    + "compare section of --config");
+        }
         if (seeds < 1 || budget < 1) {
             throw new CommandLine.ParameterException(spec.commandLine(), "--seeds and --budget must be at least 1");
         }
@@ -92,7 +103,6 @@ public final class CompareCommand implements Callable<Integer> {
                 throw new CommandLine.ParameterException(spec.commandLine(), "--strategies: " + e.getMessage());
             }
         }
-        SearchConfig settings = SearchConfig.read(config);
         Cohort c = cohort.read();
         ProgressBar bar = new ProgressBar(spec.commandLine().getErr(), "compare");
         List<Outcome> outcomes = new ArrayList<>();
