@@ -15,7 +15,7 @@ import picocli.CommandLine.Command;
         },
         subcommands = {DemoCommand.class, SimulateCommand.class, TrainCommand.class, InfoCommand.class, ScoreCommand.class,
             ScanCommand.class, CurveCommand.class, SaliencyCommand.class, ShapleyCommand.class,
-            SearchCommand.class, CompareCommand.class,
+            SearchCommand.class, CompareCommand.class, AuditCommand.class,
             ExportCommand.class, BenchCommand.class,
             CommandLine.HelpCommand.class})
 public final class CruxsetCommand implements Callable<Integer> {
