@@ -123,28 +123,10 @@ public final class ThompsonSearch {
         return best;
     }
 
-    /** Simulated annealing over single-region flips from {@code start}, geometric cooling; the best new set seen. */
+    /** Simulated annealing over single-region flips from {@code start} ({@link Annealing}); the best new set seen. */
     private static RegionSet anneal(int regions, QuadraticFeatures features, double[] beta, Settings settings,
                                     RegionSet start, Set<RegionSet> done, SplittableRandom rng) {
-        RegionSet current = start;
-        double value = acquisition(features, beta, settings.lambda(), current);
-        RegionSet best = null;
-        double bestValue = Double.POSITIVE_INFINITY;
-        double t0 = 1.0;
-        for (int step = 0; step < settings.annealSteps(); step++) {
-            double temperature = t0 * Math.pow(1e-3, (double) step / settings.annealSteps());
-            int p = rng.nextInt(regions);
-            RegionSet next = current.contains(p) ? current.without(p) : current.with(p);
-            double v = acquisition(features, beta, settings.lambda(), next);
-            if (v <= value || rng.nextDouble() < Math.exp((value - v) / temperature)) {
-                current = next;
-                value = v;
-                if (v < bestValue && !done.contains(next)) {
-                    bestValue = v;
-                    best = next;
-                }
-            }
-        }
-        return best;
+        return Annealing.bestUnseen(start, s -> acquisition(features, beta, settings.lambda(), s),
+                settings.annealSteps(), 1.0, 1e-3, done, true, rng);
     }
 }

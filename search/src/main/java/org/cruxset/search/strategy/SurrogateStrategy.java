@@ -12,6 +12,7 @@ import org.cruxset.search.SearchContext;
 import org.cruxset.search.Strategy;
 import org.cruxset.search.rank.Ranking;
 import org.cruxset.search.rank.SingleLesion;
+import org.cruxset.surrogate.Annealing;
 import org.cruxset.surrogate.SurrogateModel;
 
 /**
@@ -269,33 +270,10 @@ public final class SurrogateStrategy implements Strategy {
         return settings.lambda() * s.size() + Math.max(0, f);
     }
 
-    /** Simulated annealing over single-region flips from {@code start}; the best set not yet scored, or null. */
+    /** Simulated annealing from {@code start} ({@link Annealing}); the best set not yet scored, or null. */
     private RegionSet anneal(SurrogateModel model, int draw, RegionSet start, Set<RegionSet> done,
                              SplittableRandom rng) {
-        int d = start.universe();
-        RegionSet current = start;
-        double value = acquisition(model, draw, current);
-        RegionSet best = null;
-        double bestValue = Double.POSITIVE_INFINITY;
-        double t0 = 4 * settings.lambda();
-        int steps = settings.annealSteps();
-        for (int step = 0; step < steps; step++) {
-            double temperature = t0 * Math.pow(1e-2, (double) step / steps);
-            int p = rng.nextInt(d);
-            RegionSet next = current.contains(p) ? current.without(p) : current.with(p);
-            if (next.size() == 0) {
-                continue;
-            }
-            double v = acquisition(model, draw, next);
-            if (v <= value || rng.nextDouble() < Math.exp((value - v) / temperature)) {
-                current = next;
-                value = v;
-                if (v < bestValue && !done.contains(next)) {
-                    bestValue = v;
-                    best = next;
-                }
-            }
-        }
-        return best;
+        return Annealing.bestUnseen(start, s -> acquisition(model, draw, s), settings.annealSteps(),
+                4 * settings.lambda(), 1e-2, done, false, rng);
     }
 }
