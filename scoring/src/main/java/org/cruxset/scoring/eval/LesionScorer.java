@@ -65,6 +65,8 @@ public final class LesionScorer {
     private final java.util.function.IntFunction<String> regionName;
     private final Map<RegionSet, Scored> memo;
     private int decoded;
+    private long decodedSamples;
+    private long decodeNanos;
     private int stored;
     private int replayed;
 
@@ -162,6 +164,16 @@ public final class LesionScorer {
     /** Sets decoded by this scorer. */
     public int decodedCount() {
         return decoded;
+    }
+
+    /** Sample-evaluations decoded by this scorer (whole sets and raced chunks alike). */
+    public long decodedSamples() {
+        return decodedSamples;
+    }
+
+    /** Seconds spent in the decoder's passes by this scorer (whole sets and raced chunks alike). */
+    public double decodeSeconds() {
+        return decodeNanos / 1e9;
     }
 
     /** Sets found in the store from other runs. */
@@ -335,7 +347,10 @@ public final class LesionScorer {
         }
         long t0 = System.nanoTime();
         float[][][] probs = bound.probabilities(masks, threads);
-        double wall = (System.nanoTime() - t0) / 1e9 / part.size();
+        long spent = System.nanoTime() - t0;
+        decodeNanos += spent;
+        decodedSamples += (long) part.size() * inputs.size();
+        double wall = spent / 1e9 / part.size();
         int[] labels = inputs.labels();
         List<ResultsStore.NewEvaluation> fresh = new ArrayList<>();
         for (int i = 0; i < part.size(); i++) {
@@ -851,7 +866,12 @@ public final class LesionScorer {
                     for (RegionSet s : part) {
                         masks.add(new InputMask(s, cf));
                     }
+                    long d0 = System.nanoTime();
                     float[][][] probs = chunkBound(c).probabilities(masks, threads);
+                    decodeNanos += System.nanoTime() - d0;
+                    for (float[][] one : probs) {
+                        decodedSamples += one.length;
+                    }
                     int base = c * racing.chunk();
                     for (int i = 0; i < part.size(); i++) {
                         RaceState st = active.get(part.get(i));

@@ -148,6 +148,9 @@ class LesionScorerRaceTest {
         }
         assertEquals((double) distinctSamples / n, raced.budget().spent(), 1e-9);
         assertEquals(distinctSamples, counting.sampleEvaluations);
+        assertEquals(counting.sampleEvaluations, raced.decodedSamples(), "the scorer counts what it decoded in chunks");
+        assertEquals((long) new HashSet<>(sets).size() * n, plain.decodedSamples(), "and what it decoded whole");
+        assertTrue(raced.decodeSeconds() > 0 && plain.decodeSeconds() > 0);
         assertTrue(agree >= sets.size() - 2, agree + " of " + sets.size() + " raced verdicts agree");
         System.out.printf("raced at the median count: %d of %d verdicts agree, %.1f%% of the sample-evaluations%n",
                 agree, sets.size(), 100.0 * distinctSamples / ((double) n * seen.size()));

@@ -75,8 +75,8 @@ public final class CompareCommand implements Callable<Integer> {
 
     /** One run's outcome. */
     record Outcome(String strategy, long seed, int best, double firstCritical, double toBest, double charged,
-                   double hypervolume, double seconds, long decoded, int reported, int confirmed, int certified,
-                   List<double[]> anytime) {
+                   double hypervolume, double seconds, long decodedSamples, double decodeSeconds, int samples,
+                   int reported, int confirmed, int certified, List<double[]> anytime) {
     }
 
     @Override
@@ -150,7 +150,8 @@ public final class CompareCommand implements Callable<Integer> {
                             anytime.add(new double[] {r.chargedAtBest(), r.bestSize()});
                         }
                         outcomes.add(new Outcome(s.name(), seed, r.bestSize(), first[0], r.chargedAtBest(),
-                                r.charged(), hv, r.elapsedSeconds(), session.scorer().decodedCount(),
+                                r.charged(), hv, r.elapsedSeconds(), session.scorer().decodedSamples(),
+                                session.scorer().decodeSeconds(), session.search().inputs().size(),
                                 r.reported().size(), confirmed, certified, anytime));
                     }
                     done++;
@@ -169,12 +170,16 @@ public final class CompareCommand implements Callable<Integer> {
     }
 
     private void print(PrintWriter pw, List<StrategySpec> specs, List<Outcome> outcomes) {
-        double seconds = outcomes.stream().mapToDouble(Outcome::seconds).sum();
-        long decoded = outcomes.stream().mapToLong(Outcome::decoded).sum();
-        double perSet = decoded == 0 ? Double.NaN : seconds / decoded;
-        pw.printf(Locale.ROOT, "%nBudget %d scored sets per run, seeds 1-%d. Decoder-equivalent time = sets charged × "
-                + "%.4f s, the measured search time per set decoded over all runs (so the order of the runs, and the "
-                + "sets a later run found in the store, do not favour it).%n", budget, seeds, perSet);
+        double decodeSeconds = outcomes.stream().mapToDouble(Outcome::decodeSeconds).sum();
+        long decodedSamples = outcomes.stream().mapToLong(Outcome::decodedSamples).sum();
+        int samples = outcomes.isEmpty() ? 0 : outcomes.get(0).samples();
+        double perSet = decodedSamples == 0 ? Double.NaN : decodeSeconds / decodedSamples * samples;
+        pw.printf(Locale.ROOT, "%nBudget %d scored sets per run, seeds 1-%d. %s%n", budget, seeds, Double.isNaN(perSet)
+                ? "Decoder-equivalent time: not measured (nothing was decoded in this invocation: every run was "
+                + "replayed from the store)."
+                : String.format(Locale.ROOT, "Decoder-equivalent time = sets charged × %.4f s, the decoder's measured "
+                + "time per scored set (%d samples) over every pass of all runs, raced chunks included (so the order "
+                + "of the runs, and the sets a later run found in the store, do not favour it).", perSet, samples));
         Map<String, List<Outcome>> by = new LinkedHashMap<>();
         for (StrategySpec s : specs) {
             by.put(s.name(), new ArrayList<>());
