@@ -169,7 +169,8 @@ public final class SearchCommand implements Callable<Integer> {
                     budget == null ? "none" : budget + " scored sets of the search part",
                     hours == null ? "" : ", at most " + hours + " h", deadline == null ? "" : ", until " + deadline,
                     session.run() != null && session.run().resumed() ? " Resuming an earlier run of this command." : "");
-            SearchProgress progress = new SearchProgress(spec.commandLine().getErr(), budget);
+            SearchProgress progress = new SearchProgress(spec.commandLine().getErr(), budget,
+                    org.cruxset.search.strategy.SurrogateFits.of(s));
             SearchRun.Result r = SearchRun.run(session, s, new SearchRun.Settings(
                     hours == null ? Double.POSITIVE_INFINITY : hours * 3600, deadline, seed, !noPrune, certify,
                     reserve, race),
@@ -408,7 +409,10 @@ public final class SearchCommand implements Callable<Integer> {
         private final Long budget;
         private long last;
 
-        SearchProgress(PrintWriter err, Long budget) {
+        private final org.cruxset.search.strategy.SurrogateFits fits;
+
+        SearchProgress(PrintWriter err, Long budget, org.cruxset.search.strategy.SurrogateFits fits) {
+            this.fits = fits;
             this.bar = new ProgressBar(err, "search");
             this.budget = budget;
         }
@@ -424,8 +428,9 @@ public final class SearchCommand implements Callable<Integer> {
             int done = (int) ctx.charged();
             int total = budget == null ? done : (int) Math.min(Integer.MAX_VALUE, budget);
             int best = ctx.front().bestCriticalSize();
-            bar.update(done, Math.max(total, 1), String.format("store hits %d, best critical size %s",
-                    ctx.scorer().storedCount() + ctx.scorer().replayedCount(), best < 0 ? "none yet" : best));
+            bar.update(done, Math.max(total, 1), String.format("store hits %d, best critical size %s%s",
+                    ctx.scorer().storedCount() + ctx.scorer().replayedCount(), best < 0 ? "none yet" : best,
+                    fits == null ? "" : fits.progress()));
         }
 
         void done() {

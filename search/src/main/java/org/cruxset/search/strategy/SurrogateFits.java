@@ -72,6 +72,19 @@ public final class SurrogateFits {
         ctx.recordFitQuality(purpose, fits, q.sets(), q.r2(), q.spearman(), q.coverage());
     }
 
+    /** For a progress bar: fits so far and the last batch's Spearman ρ and coverage ("" before the first fit). */
+    public String progress() {
+        if (fits == 0) {
+            return "";
+        }
+        if (qualities.isEmpty()) {
+            return String.format(Locale.ROOT, ", %d fits", fits);
+        }
+        Quality q = qualities.get(qualities.size() - 1);
+        return String.format(Locale.ROOT, ", %d fits, last batch ρ %s, coverage %s", fits, fmt(q.spearman()),
+                fmt(q.coverage()));
+    }
+
     /** Fits so far. */
     public int fits() {
         return fits;
