@@ -144,8 +144,8 @@ public final class ClusteredStats {
         return out;
     }
 
-    /** Linear-interpolated quantile of sorted values (type 7, common practice). */
-    static double quantile(double[] sorted, double q) {
+    /** Linear-interpolated quantile of sorted values (type 7, common practice); NaN for none. */
+    public static double quantile(double[] sorted, double q) {
         if (sorted.length == 0) {
             return Double.NaN;
         }

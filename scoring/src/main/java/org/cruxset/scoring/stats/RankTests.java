@@ -270,7 +270,8 @@ public final class RankTests {
         double[] sorted = Arrays.copyOf(values, kept);
         Arrays.sort(sorted);
         double tail = (1 - level) / 2;
-        return new double[] {quantile(sorted, tail), quantile(sorted, 1 - tail), reps - kept};
+        return new double[] {ClusteredStats.quantile(sorted, tail), ClusteredStats.quantile(sorted, 1 - tail),
+            reps - kept};
     }
 
     /** The Jaccard index |A ∩ B| / |A ∪ B| of two sets of unit indices (1 when both are empty). */
@@ -285,14 +286,6 @@ public final class RankTests {
             common += b.contains(v) ? 1 : 0;
         }
         return (double) common / union.size();
-    }
-
-    /** The quantile of sorted values by linear interpolation between order statistics (type 7, common practice). */
-    static double quantile(double[] sorted, double q) {
-        double h = (sorted.length - 1) * q;
-        int lo = (int) Math.floor(h);
-        int hi = Math.min(sorted.length - 1, lo + 1);
-        return sorted[lo] + (h - lo) * (sorted[hi] - sorted[lo]);
     }
 
     private static double pearson(double[] a, double[] b) {

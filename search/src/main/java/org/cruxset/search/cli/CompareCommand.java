@@ -294,9 +294,10 @@ public final class CompareCommand implements Callable<Integer> {
         int lo = (int) Math.floor(h);
         int hi = Math.min(s.length - 1, lo + 1);
         if (Double.isInfinite(s[lo]) || Double.isInfinite(s[hi])) {
+            // "none" (infinite) cannot be interpolated with a size: take the nearer order statistic.
             return h - lo < 0.5 ? s[lo] : s[hi];
         }
-        return s[lo] + (h - lo) * (s[hi] - s[lo]);
+        return org.cruxset.scoring.stats.ClusteredStats.quantile(s, q);
     }
 
     private static String fmt(double v) {

@@ -142,9 +142,9 @@ public final class DeletionCurve {
             if (nullOrders > 0) {
                 double[] v = nullAcc[g].clone();
                 Arrays.sort(v);
-                lo = quantile(v, BAND_LOW);
-                med = quantile(v, 0.5);
-                hi = quantile(v, BAND_HIGH);
+                lo = org.cruxset.scoring.stats.ClusteredStats.quantile(v, BAND_LOW);
+                med = org.cruxset.scoring.stats.ClusteredStats.quantile(v, 0.5);
+                hi = org.cruxset.scoring.stats.ClusteredStats.quantile(v, BAND_HIGH);
             }
             points.add(new Point(grid[g], d, ctx.critical(d), inserted == null ? null : inserted.get(g).score(), lo,
                     med, hi));
@@ -178,16 +178,5 @@ public final class DeletionCurve {
             out.add(ctx.session().toInputs(atlasSet));
         }
         return out;
-    }
-
-    /** Linear-interpolation quantile of sorted values (type 7). */
-    static double quantile(double[] sorted, double q) {
-        if (sorted.length == 1) {
-            return sorted[0];
-        }
-        double h = (sorted.length - 1) * q;
-        int lo = (int) Math.floor(h);
-        int hi = Math.min(sorted.length - 1, lo + 1);
-        return sorted[lo] + (h - lo) * (sorted[hi] - sorted[lo]);
     }
 }
