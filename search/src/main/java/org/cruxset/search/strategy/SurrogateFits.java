@@ -1,7 +1,6 @@
 package org.cruxset.search.strategy;
 
 import java.util.ArrayList;
-import java.util.Arrays;
 import java.util.List;
 import java.util.Locale;
 import org.cruxset.search.SearchContext;
@@ -122,12 +121,8 @@ public final class SurrogateFits {
     }
 
     private double median(java.util.function.ToDoubleFunction<Quality> f) {
-        double[] v = qualities.stream().mapToDouble(f).filter(x -> !Double.isNaN(x)).toArray();
-        if (v.length == 0) {
-            return Double.NaN;
-        }
-        Arrays.sort(v);
-        return v.length % 2 == 1 ? v[v.length / 2] : (v[v.length / 2 - 1] + v[v.length / 2]) / 2;
+        double[] v = qualities.stream().mapToDouble(f).filter(x -> !Double.isNaN(x)).sorted().toArray();
+        return org.cruxset.scoring.stats.ClusteredStats.quantile(v, 0.5);
     }
 
     private static String fmt(double v) {
