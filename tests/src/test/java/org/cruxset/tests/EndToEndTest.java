@@ -248,4 +248,16 @@ class EndToEndTest {
         assertEquals(2, r.exit(), r.err());
         assertTrue(r.err().contains("nowhere"), r.err());
     }
+
+    // Must show (report): a compare of >= 3 strategies x 2 seeds on the CI cohort produces every table and figure;
+    // the page renders in headless Chromium (Debian's chromium) without console errors, with content in every figure;
+    // the NIfTI-1 maps read back through Debian's python3-nibabel (an independent reader) and match the header
+    // specification (Source: nifti1.h, NIfTI Data Format Working Group).
+    @Test
+    void reportRendersInABrowserWithMapsReadByAnIndependentReader() throws Exception {
+        Path python = org.cruxset.scoring.testing.ExternalTools.requirePython("numpy", "nibabel");
+        Path chromium = org.cruxset.scoring.testing.ExternalTools.requireProgram("chromium", "chromium",
+                "chromium-browser");
+        ReportChecks.run(cohortDir, model, dir.resolve("report-run"), python, chromium);
+    }
 }

@@ -331,7 +331,7 @@ public final class TsvExport {
     }
 
     /** Parses the JSON array of strings written by the store (or NULL). */
-    private static List<String> parseJsonStrings(String json) {
+    static List<String> parseJsonStrings(String json) {
         if (json == null) {
             return null;
         }

@@ -92,10 +92,30 @@ public final class ExternalTools {
                 + " (under CI=true this is a failure)");
     }
 
-    private record Result(int exitCode, String stdout, String stderr) {
+    /** A finished outside command: exit code and captured output. */
+    public record Result(int exitCode, String stdout, String stderr) {
     }
 
-    private static Result run(List<String> command, Path workDir) {
+    /**
+     * Returns the first of {@code names} found as an executable on the PATH; when none is, fails under CI and aborts
+     * elsewhere, naming the Debian package to install.
+     */
+    public static Path requireProgram(String debianPackage, String... names) {
+        String path = System.getenv().getOrDefault("PATH", "");
+        for (String name : names) {
+            for (String dir : path.split(java.io.File.pathSeparator)) {
+                Path p = Path.of(dir.isEmpty() ? "." : dir, name);
+                if (Files.isExecutable(p)) {
+                    return p;
+                }
+            }
+        }
+        missing(String.join(" or ", names) + " was not found on the PATH", debianPackage);
+        throw new IllegalStateException("unreachable");
+    }
+
+    /** Runs an outside command (at most two minutes) and returns what it printed. */
+    public static Result run(List<String> command, Path workDir) {
         ProcessBuilder pb = new ProcessBuilder(command);
         if (workDir != null) {
             pb.directory(workDir.toFile());

@@ -71,6 +71,11 @@ public final class AuditCommand implements Callable<Integer> {
             + "bootstrap. Default: ${DEFAULT-VALUE}.")
     long seed;
 
+    /** The rows of audit-topk.tsv, audit-prefix.tsv and audit-agreement.tsv, filled as the audit prints. */
+    private final List<String> topRows = new ArrayList<>();
+    private final List<String> prefixRows = new ArrayList<>();
+    private final List<String> agreementRows = new ArrayList<>();
+
     @Override
     public Integer call() {
         PrintWriter pw = spec.commandLine().getOut();
@@ -126,11 +131,16 @@ public final class AuditCommand implements Callable<Integer> {
                 }
                 pw.printf("%nRanking %s (%s, %d units, values: %s):%n", file, String.join(",",
                         new java.util.LinkedHashSet<>(r.sources())), r.size(), r.meaning());
-                topK(pw, ctx, session, prefixes, bestBySize, n);
+                String rankingName = file.getFileName().toString();
+                topK(pw, ctx, session, prefixes, bestBySize, n, rankingName);
                 CriticalPrefix.Result p = CriticalPrefix.find(ctx, prefixes);
+                String smallestCells = smallest == null ? "NA\tNA\tNA" : smallest.set().size() + "\t"
+                        + SearchCommand.names(session, smallest.set()) + "\t" + searchedIrreducible;
                 if (p.length() < 0) {
                     pw.println("  No prefix of this ranking is critical.");
                     prefixSets.add(null);
+                    prefixRows.add(rankingName + "\tNA\tNA\tNA\tNA\t" + smallestCells
+                            + "\tno prefix of this ranking is critical");
                     continue;
                 }
                 RegionSet set = prefixes.get(p.length() - 1);
@@ -142,19 +152,48 @@ public final class AuditCommand implements Callable<Integer> {
                                 + "restored and the set stays critical)", p.monotoneAsSeen() ? ""
                                 : "; accuracy along the ranking was not monotone where scored, so a shorter critical "
                                 + "prefix cannot be ruled out");
-                pw.println("  " + verdict(set.size(), smallest, searchedIrreducible, irr));
+                String verdict = verdict(set.size(), smallest, searchedIrreducible, irr);
+                pw.println("  " + verdict);
+                prefixRows.add(rankingName + "\t" + p.length() + "\t" + set.size() + "\t"
+                        + SearchCommand.names(session, set) + "\t" + irr + "\t" + smallestCells + "\t" + verdict);
             }
             if (loaded.size() > 1) {
                 agreement(pw, loaded, prefixSets, rankings);
             }
-            pw.printf("%nResults: %s%n", scoring.out().resolve(ScoringSession.STORE_FILE));
+            writeTables();
+            pw.printf("%nWritten: %s, %s and %s. Results: %s%n", scoring.out().resolve(TOPK_TSV),
+                    scoring.out().resolve(PREFIX_TSV), scoring.out().resolve(AGREEMENT_TSV),
+                    scoring.out().resolve(ScoringSession.STORE_FILE));
         }
         return 0;
     }
 
+    /** The audit's tables in the output folder (the report reads them). */
+    public static final String TOPK_TSV = "audit-topk.tsv";
+    public static final String PREFIX_TSV = "audit-prefix.tsv";
+    public static final String AGREEMENT_TSV = "audit-agreement.tsv";
+
+    private void writeTables() {
+        write(TOPK_TSV, "ranking\tk\tranking_accuracy\tbest_stored_accuracy\trandom_low05\trandom_median\t"
+                + "random_high95\trandom_at_or_below\trandom_sets\tp_permutation", topRows);
+        write(PREFIX_TSV, "ranking\tprefix_units\tprefix_regions\tprefix_names\tprefix_irreducible\t"
+                + "smallest_size\tsmallest_names\tsmallest_irreducible\tverdict", prefixRows);
+        write(AGREEMENT_TSV, "first\tsecond\tcommon_units\tspearman\tspearman_low95\tspearman_high95\t"
+                + "kendall_tau_b\tkendall_low95\tkendall_high95\tjaccard_prefixes", agreementRows);
+    }
+
+    private void write(String name, String header, List<String> rows) {
+        TextFiles.write(scoring.out().resolve(name), w -> {
+            w.write(header + "\n");
+            for (String r : rows) {
+                w.write(r + "\n");
+            }
+        });
+    }
+
     /** Top-k of the ranking vs the best stored k-set vs random k-sets, for k = 1..maxK. */
     private void topK(PrintWriter pw, SearchContext ctx, ScoringSession session, List<RegionSet> prefixes,
-                      Map<Integer, SearchContext.EarlierScore> bestBySize, int n) {
+                      Map<Integer, SearchContext.EarlierScore> bestBySize, int n, String rankingName) {
         SplittableRandom rng = new SplittableRandom(seed);
         List<String[]> rows = new ArrayList<>();
         rows.add(new String[] {"k (regions)", "ranking top-k accuracy", "best k-set scored by earlier runs",
@@ -198,6 +237,13 @@ public final class AuditCommand implements Callable<Integer> {
                 best == null ? "-" : String.format(Locale.ROOT, "%.3f", (double) best.correct() / n),
                 String.format(Locale.ROOT, "%.3f", accs[accs.length / 2]), below + "/" + random,
                 String.format(Locale.ROOT, "%.3f", (1.0 + below) / (1.0 + random))});
+            topRows.add(String.join("\t", rankingName, Integer.toString(k), TextFiles.num(a),
+                    best == null ? "NA" : TextFiles.num((double) best.correct() / n),
+                    TextFiles.num(org.cruxset.scoring.stats.ClusteredStats.quantile(accs, 0.05)),
+                    TextFiles.num(org.cruxset.scoring.stats.ClusteredStats.quantile(accs, 0.5)),
+                    TextFiles.num(org.cruxset.scoring.stats.ClusteredStats.quantile(accs, 0.95)),
+                    Integer.toString(below), Integer.toString(random),
+                    TextFiles.num((1.0 + below) / (1.0 + random))));
         }
         Table.print(pw, rows);
         pw.println("  (permutation p: the share of random k-sets, plus one, that collapse the decoder at least as far as "
@@ -255,6 +301,7 @@ public final class AuditCommand implements Callable<Integer> {
                 common.retainAll(b.keySet());
                 String rho = "-";
                 String tau = "-";
+                String cells = "NA\tNA\tNA\tNA\tNA\tNA";
                 if (common.size() >= 3) {
                     double[] x = common.stream().mapToDouble(a::get).toArray();
                     double[] y = common.stream().mapToDouble(b::get).toArray();
@@ -262,6 +309,9 @@ public final class AuditCommand implements Callable<Integer> {
                     double[] tc = RankTests.bootstrapInterval(x, y, RankTests::kendallTauB, 2000, seed, 0.95);
                     rho = String.format(Locale.ROOT, "%.3f (%.3f to %.3f)", RankTests.spearman(x, y), rc[0], rc[1]);
                     tau = String.format(Locale.ROOT, "%.3f (%.3f to %.3f)", RankTests.kendallTauB(x, y), tc[0], tc[1]);
+                    cells = String.join("\t", TextFiles.num(RankTests.spearman(x, y)), TextFiles.num(rc[0]),
+                            TextFiles.num(rc[1]), TextFiles.num(RankTests.kendallTauB(x, y)), TextFiles.num(tc[0]),
+                            TextFiles.num(tc[1]));
                 }
                 RegionSet pa = prefixSets.get(i);
                 RegionSet pb = prefixSets.get(j);
@@ -269,6 +319,9 @@ public final class AuditCommand implements Callable<Integer> {
                         RankTests.jaccard(toSet(pa), toSet(pb)));
                 rows.add(new String[] {files.get(i).getFileName() + " vs " + files.get(j).getFileName(),
                     Integer.toString(common.size()), rho, tau, jac});
+                agreementRows.add(String.join("\t", files.get(i).getFileName().toString(),
+                        files.get(j).getFileName().toString(), Integer.toString(common.size()), cells,
+                        "-".equals(jac) ? "NA" : jac));
             }
         }
         Table.print(pw, rows);

@@ -16,7 +16,7 @@ import picocli.CommandLine.Command;
         subcommands = {DemoCommand.class, SimulateCommand.class, TrainCommand.class, InfoCommand.class, ScoreCommand.class,
             ScanCommand.class, CurveCommand.class, SaliencyCommand.class, ShapleyCommand.class,
             SearchCommand.class, CompareCommand.class, AuditCommand.class,
-            ExportCommand.class, BenchCommand.class,
+            ReportCommand.class, ExportCommand.class, BenchCommand.class,
             CommandLine.HelpCommand.class})
 public final class CruxsetCommand implements Callable<Integer> {
     /** Exit code for bad input (files, options). */
