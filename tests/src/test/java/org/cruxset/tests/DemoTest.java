@@ -35,6 +35,21 @@ class DemoTest {
         assertTrue(r.out().contains("a search part of 216 samples (18 subjects)"), r.out());
         assertFalse(r.out().contains("differs from the one"), "the cohort generated here matches the committed summary:\n"
                 + r.out());
+        // The tour: every step ran on the same store and left its tables, the audit's verdicts are the ones in its
+        // table, and the report was written.
+        for (String step : List.of("scan", "saliency", "shapley", "compare", "curve", "audit", "report")) {
+            assertTrue(Files.isRegularFile(out.resolve("demo-logs").resolve(step + ".txt")), step);
+        }
+        for (String t : List.of("scan-networks.tsv", "saliency-regions.tsv", "shapley-networks.tsv",
+                "compare-runs.tsv", "curve.tsv", "audit-prefix.tsv")) {
+            assertTrue(Files.isRegularFile(out.resolve(t)), t);
+        }
+        for (String line : CompareCommandTest.readLines(out.resolve("audit-prefix.tsv")).subList(1, 4)) {
+            String[] f = line.split("\t");
+            assertTrue(r.out().contains(f[0] + ": critical prefix of " + f[2] + " regions. " + f[8]), line);
+        }
+        assertTrue(Files.isRegularFile(out.resolve("report").resolve("report.html")));
+        assertTrue(r.out().contains("7/7 the report") && r.out().contains("The tour took"), r.out());
     }
 
     // Source: the demo's committed summary statistics (demo-data/truth.json, cohort_summary), written when the bundled
@@ -55,7 +70,7 @@ class DemoTest {
             Files.copy(DemoData.DIR.resolve(f), demo.resolve(f));
         }
         Cli.Run r = Cli.run("demo", "--demo", demo.toString(), "--out", dir.resolve("out").toString(), "--threads", "2",
-                "--criterion", "upper:0.1").requireSuccess();
+                "--criterion", "upper:0.1", "--quick").requireSuccess();
         assertTrue(r.out().contains("Generated the demo cohort from"), r.out());
         assertTrue(Files.isRegularFile(demo.resolve("cohort").resolve("samples.npy")));
         assertTrue(r.out().contains("upper end of the 95% Wilson interval"), r.out());

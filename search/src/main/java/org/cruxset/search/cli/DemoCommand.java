@@ -5,6 +5,7 @@ import java.nio.file.Files;
 import java.nio.file.Path;
 import java.util.ArrayList;
 import java.util.List;
+import java.util.Locale;
 import java.util.concurrent.Callable;
 import org.cruxset.scoring.cohort.Cohort;
 import org.cruxset.scoring.cohort.CohortFiles;
@@ -52,6 +53,10 @@ public final class DemoCommand implements Callable<Integer> {
 
     @Mixin
     ThreadOptions threads;
+
+    @Option(names = "--quick", description = "Only the first part (the truth check and a short search), without the "
+            + "tour of scan, saliency, Shapley values, compare, audit and report.")
+    boolean quick;
 
     @Override
     public Integer call() {
@@ -157,15 +162,158 @@ public final class DemoCommand implements Callable<Integer> {
                 pw.println("  no critical set found");
             }
             pw.printf("  %.0f sets scored on the search part by this demo run, the table above included.%n", r.charged());
-            pw.printf("%nSearch for yourself (an overnight run takes --hours or --until; kill it and rerun to resume):%n"
-                    + "  ./cruxset search --model %s --cohort %s --strategy grow --budget 5000 --out %s%n",
-                    modelFile, cohortDir, scoring.out());
-            pw.printf("%nScore lesions of your own choice (kept and reused in %s):%n"
-                    + "  ./cruxset score --model %s --cohort %s --lesion \"%s\" --lesion network:%s --out %s%n",
-                    scoring.out().resolve(ScoringSession.STORE_FILE), modelFile, cohortDir, String.join(",", smallest.get(0)),
-                    c.atlas().networks().keySet().iterator().next(), scoring.out());
         }
+        if (!quick) {
+            tour(pw, modelFile, cohortDir);
+        }
+        pw.printf("%nSearch for yourself (an overnight run takes --hours or --until; kill it and rerun to resume):%n"
+                + "  ./cruxset search --model %s --cohort %s --strategy grow --budget 5000 --out %s%n",
+                modelFile, cohortDir, scoring.out());
+        pw.printf("%nRebuild the report at any time (no decoder call): ./cruxset report --out %s --cohort %s%n",
+                scoring.out(), cohortDir);
+        pw.println();
+        pw.println(Reports.CAUTION);
         return 0;
+    }
+
+    /** Strategies of the demo's short compare: every search strategy that works over all regions. */
+    static final String TOUR_STRATEGIES = "random,grow+prune,ranked+prune,genetic~race,local~race,surrogate~race";
+
+    /**
+     * The tour: each step is the command a user would run, run in this process on the same output folder with the
+     * demo's scoring options; its full output goes to OUT/demo-logs/STEP.txt and a summary, read from the tables it
+     * wrote, to the console.
+     */
+    private void tour(PrintWriter pw, Path model, Path cohortDir) {
+        Path out = scoring.out();
+        List<String> shared = new ArrayList<>(List.of("--model", model.toString(), "--cohort", cohortDir.toString()));
+        shared.addAll(forwarded());
+        long start = System.nanoTime();
+        pw.println();
+        pw.println("The tour: each step is a cruxset command on the same results store (full outputs in "
+                + out.resolve("demo-logs") + ").");
+        step(pw, "1/7 network scan (one network lesioned at a time)", "scan", shared, "--units", "networks");
+        top(pw, out.resolve("scan-networks.tsv"), "unit", "drop", 3, "largest accuracy drops");
+        step(pw, "2/7 gradient saliency", "saliency", shared);
+        top(pw, out.resolve("saliency-regions.tsv"), "region", "mean_abs", 6, "regions with the largest mean |gradient|");
+        step(pw, "3/7 network Shapley values of the lesion game", "shapley", shared, "--players", "networks");
+        top(pw, out.resolve("shapley-networks.tsv"), "unit", "value", 3, "largest values (95% intervals in the table)");
+        step(pw, "4/7 a short compare of the search strategies on equal budgets", "compare", shared, "--strategies",
+                TOUR_STRATEGIES, "--seeds", "2", "--budget", "600");
+        compareSummary(pw, out.resolve("compare-runs.tsv"));
+        pw.println("  (exhaustive is left out: it needs a small pool of candidate regions; see search --strategy "
+                + "exhaustive --help)");
+        step(pw, "5/7 deletion curve of the saliency ranking against random orders", "curve", shared, "--ranking",
+                out.resolve("ranking-saliency-regions.tsv").toString(), "--k", "1:12", "--null", "20");
+        org.cruxset.scoring.cohort.TsvTable curve = org.cruxset.scoring.cohort.TsvTable.read(out.resolve("curve.tsv"));
+        String firstCritical = "none of the first " + curve.rowCount();
+        for (int r = 0; r < curve.rowCount(); r++) {
+            if ("true".equals(curve.get(r, curve.column("deletion_critical")))) {
+                firstCritical = "k = " + curve.get(r, curve.column("k"));
+                break;
+            }
+        }
+        pw.printf("  the saliency ranking's first critical prefix: %s (curve.tsv; a later prefix need not stay "
+                + "critical)%n", firstCritical);
+        step(pw, "6/7 audit: is a ranking's critical set the smallest?", "audit", shared, "--ranking",
+                out.resolve("ranking-saliency-regions.tsv").toString(), "--ranking",
+                out.resolve("ranking-scan-networks.tsv").toString(), "--ranking",
+                out.resolve("ranking-shapley-networks.tsv").toString());
+        verdicts(pw, out.resolve(AuditCommand.PREFIX_TSV));
+        step(pw, "7/7 the report", "report", List.of(), "--cohort", cohortDir.toString());
+        pw.printf(Locale.ROOT, "  Open %s in any browser (figures also as SVG and PNG in %s).%n",
+                out.resolve("report").resolve("report.html"), out.resolve("report").resolve("figures"));
+        pw.printf(Locale.ROOT, "The tour took %.0f s.%n", (System.nanoTime() - start) / 1e9);
+    }
+
+    /** The demo's own scoring and thread options, as given, for every step. */
+    private List<String> forwarded() {
+        List<String> args = new ArrayList<>();
+        for (picocli.CommandLine.Model.OptionSpec o : spec.commandLine().getParseResult().matchedOptions()) {
+            if (o.longestName().equals("--demo") || o.longestName().equals("--quick")) {
+                continue;
+            }
+            for (String v : o.originalStringValues()) {
+                args.add(o.longestName());
+                args.add(v);
+            }
+        }
+        return args;
+    }
+
+    private void step(PrintWriter pw, String title, String command, List<String> shared, String... extra) {
+        pw.println();
+        pw.println(title + ": cruxset " + command + " ...");
+        pw.flush();
+        List<String> args = new ArrayList<>();
+        args.add(command);
+        if (command.equals("report")) {
+            args.addAll(List.of("--out", scoring.out().toString()));
+        } else {
+            args.addAll(shared);
+            if (shared.stream().noneMatch("--out"::equals)) {
+                args.addAll(List.of("--out", scoring.out().toString()));
+            }
+        }
+        args.addAll(List.of(extra));
+        java.io.StringWriter log = new java.io.StringWriter();
+        picocli.CommandLine cl = CruxsetCommand.commandLine();
+        cl.setOut(new PrintWriter(log, true));
+        cl.setErr(spec.commandLine().getErr());
+        int code = cl.execute(args.toArray(new String[0]));
+        Path file = scoring.out().resolve("demo-logs").resolve(command + ".txt");
+        TextFiles.write(file, w -> w.write("$ cruxset " + String.join(" ", args) + "\n\n" + log));
+        if (code != 0) {
+            throw new IllegalStateException("the demo step 'cruxset " + command + "' failed (exit " + code + "); its "
+                    + "output is in " + file);
+        }
+    }
+
+    /** The first {@code k} rows of a table by a column, largest first. */
+    private static void top(PrintWriter pw, Path tsv, String unitCol, String valueCol, int k, String what) {
+        org.cruxset.scoring.cohort.TsvTable t = org.cruxset.scoring.cohort.TsvTable.read(tsv);
+        List<Integer> rows = new ArrayList<>();
+        for (int r = 0; r < t.rowCount(); r++) {
+            rows.add(r);
+        }
+        int v = t.column(valueCol);
+        rows.sort((a, b) -> Double.compare(parse(t.get(b, v)), parse(t.get(a, v))));
+        StringBuilder sb = new StringBuilder();
+        for (int r : rows.subList(0, Math.min(k, rows.size()))) {
+            sb.append(sb.length() == 0 ? "" : ", ").append(t.get(r, t.column(unitCol))).append(' ')
+                    .append(String.format(Locale.ROOT, "%.3f", parse(t.get(r, v))));
+        }
+        pw.printf("  %s: %s (%s)%n", what, sb, tsv.getFileName());
+    }
+
+    private static double parse(String s) {
+        try {
+            return Double.parseDouble(s);
+        } catch (NumberFormatException e) {
+            return Double.NaN;
+        }
+    }
+
+    private static void compareSummary(PrintWriter pw, Path tsv) {
+        org.cruxset.scoring.cohort.TsvTable t = org.cruxset.scoring.cohort.TsvTable.read(tsv);
+        java.util.Map<String, List<String>> by = new java.util.LinkedHashMap<>();
+        for (int r = 0; r < t.rowCount(); r++) {
+            String best = t.get(r, t.column("best_size"));
+            String at = t.get(r, t.column("sets_to_best"));
+            by.computeIfAbsent(t.get(r, t.column("strategy")), x -> new ArrayList<>()).add(
+                    (best.equals("-1") ? "none" : best) + (best.equals("-1") ? "" : " after "
+                            + String.format(Locale.ROOT, "%.0f", parse(at)) + " sets"));
+        }
+        pw.println("  smallest critical set per seed (and sets charged to find it):");
+        by.forEach((k, v) -> pw.printf("    %-16s %s%n", k, String.join("; ", v)));
+    }
+
+    private static void verdicts(PrintWriter pw, Path tsv) {
+        org.cruxset.scoring.cohort.TsvTable t = org.cruxset.scoring.cohort.TsvTable.read(tsv);
+        for (int r = 0; r < t.rowCount(); r++) {
+            pw.printf("  %s: critical prefix of %s regions. %s%n", t.get(r, t.column("ranking")),
+                    t.get(r, t.column("prefix_regions")), t.get(r, t.column("verdict")));
+        }
     }
 
     /** The truth's smallest critical sets under {@code criterion}, or under the default one (saying so). */

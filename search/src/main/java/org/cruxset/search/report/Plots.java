@@ -71,19 +71,21 @@ final class Plots {
     }
 
     static XYChart xy(String title, String xTitle, String yTitle) {
-        XYChart c = new XYChartBuilder().width(760).height(440).title(title).xAxisTitle(xTitle).yAxisTitle(yTitle)
+        XYChart c = new XYChartBuilder().width(760).height(520).title(title).xAxisTitle(xTitle).yAxisTitle(yTitle)
                 .build();
         style(c.getStyler());
         c.getStyler().setMarkerSize(7);
+        c.getStyler().setLegendLayout(Styler.LegendLayout.Vertical);
         return c;
     }
 
-    static CategoryChart bars(String title, String xTitle, String yTitle, int categories) {
-        CategoryChart c = new CategoryChartBuilder().width(Math.max(560, Math.min(1400, 120 + 22 * categories)))
+    static CategoryChart bars(String title, String xTitle, String yTitle, List<String> categories) {
+        int labelChars = categories.stream().mapToInt(String::length).sum();
+        CategoryChart c = new CategoryChartBuilder().width(Math.max(560, Math.min(1400, 120 + 22 * categories.size())))
                 .height(460).title(title).xAxisTitle(xTitle).yAxisTitle(yTitle).build();
         style(c.getStyler());
         c.getStyler().setLegendVisible(false);
-        c.getStyler().setXAxisLabelRotation(categories > 8 ? 90 : 0);
+        c.getStyler().setXAxisLabelRotation(categories.size() > 8 || labelChars > 50 ? 90 : 0);
         c.getStyler().setErrorBarsColor(Color.BLACK);
         c.getStyler().setAvailableSpaceFill(0.6);
         return c;
@@ -115,6 +117,7 @@ final class Plots {
         s.setLegendLayout(Styler.LegendLayout.Horizontal);
         s.setPlotBorderColor(Color.GRAY);
         if (s instanceof AxesChartStyler a) {
+            a.setYAxisDecimalPattern("0.###");
             a.setPlotGridLinesColor(new Color(0xDDDDDD));
             a.setAxisTickLabelsColor(Color.BLACK);
         }

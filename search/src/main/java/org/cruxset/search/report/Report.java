@@ -388,11 +388,11 @@ public final class Report {
         }
         if (band) {
             Plots.reference(c.addSeries("random orders: median", k, column(t, "null_median")), false);
-            Plots.reference(c.addSeries("random orders: 5% and 95%", concat(k, reverse(k)),
-                    concat(lo, reverse(column(t, "null_high95")))), true);
+            Plots.reference(c.addSeries("random orders: 5%", k, lo), true);
+            Plots.reference(c.addSeries("random orders: 95%", k, column(t, "null_high95")), true);
         }
         figure("deletion-curve", "Accuracy as the ranking's top k units are lesioned" + (band ? ", against the 5-95% "
-                + "band and median of random orders (dashed and dotted grey)" : "") + ".", c);
+                + "band and median of random orders (grey: dashed 5% and 95%, dotted median)" : "") + ".", c);
         methods.add("curve");
     }
 
@@ -453,6 +453,7 @@ public final class Report {
         List<String> names = new ArrayList<>();
         List<Double> values = new ArrayList<>();
         List<Double> errors = new ArrayList<>();
+        boolean symmetric = true;
         for (int r : shown) {
             names.add(t.get(r, u));
             double x = num(t.get(r, v));
@@ -461,16 +462,22 @@ public final class Report {
                 double lo = num(t.get(r, t.column(lowCol)));
                 double hi = num(t.get(r, t.column(highCol)));
                 errors.add(Double.isFinite(lo) && Double.isFinite(hi) ? (hi - lo) / 2 : 0);
+                // Error bars are drawn symmetric about the value: only when the interval is.
+                symmetric &= !(Double.isFinite(lo) && Double.isFinite(hi))
+                        || Math.abs((lo + hi) / 2 - x) <= 0.01 * Math.max(hi - lo, 1e-12);
             }
         }
-        CategoryChart c = Plots.bars(title, kind, yTitle, names.size());
-        if (lowCol != null) {
+        names = names.stream().map(x -> x.startsWith("network:") ? x.substring("network:".length()) : x).toList();
+        CategoryChart c = Plots.bars(title, kind, yTitle, names);
+        boolean withBars = lowCol != null && symmetric;
+        if (withBars) {
             c.addSeries(valueCol, names, values, errors);
         } else {
             c.addSeries(valueCol, names, values);
         }
         figure(name, title + (order.size() > shown.size() ? " (the " + shown.size() + " largest of " + order.size()
-                + ")" : "") + (lowCol != null ? "; bars: 95% intervals." : ".") + " Table: <code>"
+                + ")" : "") + (withBars ? "; bars: 95% intervals." : lowCol != null ? " (the 95% intervals are "
+                + "asymmetric: see the table)." : ".") + " Table: <code>"
                 + esc(t.file().getFileName().toString()) + "</code>.", c);
     }
 
@@ -565,9 +572,8 @@ public final class Report {
                     Plots.look(c.addSeries("best k-set searches scored", bk, bv), 1);
                 }
                 Plots.reference(c.addSeries("random k-sets: median", k, pick(t, e.getValue(), "random_median")), false);
-                Plots.reference(c.addSeries("random k-sets: 5% and 95%", concat(k, reverse(k)),
-                        concat(pick(t, e.getValue(), "random_low05"), reverse(pick(t, e.getValue(), "random_high95")))),
-                        true);
+                Plots.reference(c.addSeries("random k-sets: 5%", k, pick(t, e.getValue(), "random_low05")), true);
+                Plots.reference(c.addSeries("random k-sets: 95%", k, pick(t, e.getValue(), "random_high95")), true);
                 figure("audit-topk-" + (i++), "The ranking's top k against the best k-set any search scored and "
                         + "against random k-sets (permutation p-values in <code>audit-topk.tsv</code>).", c);
             }
@@ -767,20 +773,6 @@ public final class Report {
     private static double[] pick(TsvTable t, List<Integer> rows, String name) {
         int c = t.column(name);
         return rows.stream().mapToDouble(r -> num(t.get(r, c))).toArray();
-    }
-
-    private static double[] concat(double[] a, double[] b) {
-        double[] out = Arrays.copyOf(a, a.length + b.length);
-        System.arraycopy(b, 0, out, a.length, b.length);
-        return out;
-    }
-
-    private static double[] reverse(double[] a) {
-        double[] out = new double[a.length];
-        for (int i = 0; i < a.length; i++) {
-            out[i] = a[a.length - 1 - i];
-        }
-        return out;
     }
 
     private static double num(String s) {
