@@ -417,6 +417,26 @@ public final class SearchContext {
         return out;
     }
 
+    /**
+     * The exhaustive certificates earlier runs in this scoring context recorded under this run's criterion (empty
+     * without a store), each as the pool of model inputs searched and the largest size ruled out.
+     */
+    public List<ExhaustiveProof> earlierExhaustiveCertificates() {
+        if (session.store() == null || session.run() == null) {
+            return List.of();
+        }
+        List<ExhaustiveProof> out = new ArrayList<>();
+        for (org.cruxset.scoring.store.ResultsStore.ExhaustiveCertificate e : session.store().exhaustiveCertificates(
+                session.run(), scorer.key(empty()), session.settings().criterion().label())) {
+            out.add(new ExhaustiveProof(e.runId(), EvaluationKey.parseSetHex(e.poolHex(), regions()), e.maxSize()));
+        }
+        return out;
+    }
+
+    /** An earlier run's proof that no set of at most {@code maxSize} regions within {@code pool} is critical. */
+    public record ExhaustiveProof(long runId, RegionSet pool, int maxSize) {
+    }
+
     /** An earlier run's score of a set on this run's search part. */
     public record EarlierScore(RegionSet set, int correct, double meanTrueProbability) {
     }

@@ -46,7 +46,7 @@ class DemoTest {
         }
         for (String line : CompareCommandTest.readLines(out.resolve("audit-prefix.tsv")).subList(1, 4)) {
             String[] f = line.split("\t");
-            assertTrue(r.out().contains(f[0] + ": critical prefix of " + f[2] + " regions. " + f[8]), line);
+            assertTrue(r.out().contains(f[0] + ": critical prefix of " + f[2] + " regions. " + f[9]), line);
         }
         assertTrue(Files.isRegularFile(out.resolve("report").resolve("report.html")));
         assertTrue(r.out().contains("7/7 the report") && r.out().contains("The tour took"), r.out());

@@ -591,6 +591,43 @@ public final class ResultsStore implements AutoCloseable {
         }
     }
 
+    /** An exhaustive certificate of an earlier run: no set of at most {@code maxSize} regions within the pool is critical. */
+    public record ExhaustiveCertificate(long runId, String poolHex, int maxSize) {
+    }
+
+    /**
+     * The exhaustive certificates that holding runs begun before {@code run} recorded in the scoring context of
+     * {@code template} (a run that scored a set on the same model, data, preprocessing, lesion mode and mode seed) under
+     * the criterion labelled {@code criterion}: a certificate holds only for the criterion it was made with.
+     */
+    public List<ExhaustiveCertificate> exhaustiveCertificates(Run run, EvaluationKey template, String criterion) {
+        synchronized (lock) {
+            return inTransaction("read exhaustive certificates for run " + run.id(), c -> {
+                List<ExhaustiveCertificate> out = new ArrayList<>();
+                try (PreparedStatement ps = c.prepareStatement("SELECT ce.run_id, ce.pool_hex, ce.max_size FROM "
+                        + "certificates ce JOIN searches s ON s.run_id = ce.run_id WHERE ce.kind = 'exhaustive' AND "
+                        + "ce.holds = 1 AND ce.run_id < ? AND s.criterion = ? AND EXISTS (SELECT 1 FROM "
+                        + "run_evaluations re JOIN evaluations e ON e.id = re.evaluation_id WHERE re.run_id = ce.run_id "
+                        + "AND e.model_hash = ? AND e.data_hash = ? AND e.preprocessing = ? AND e.lesion_mode = ? AND "
+                        + "e.mode_seed = ?) ORDER BY ce.id")) {
+                    ps.setLong(1, run.id());
+                    ps.setString(2, criterion);
+                    ps.setString(3, template.modelHash());
+                    ps.setString(4, template.dataHash());
+                    ps.setString(5, template.preprocessing());
+                    ps.setString(6, template.mode().label());
+                    ps.setLong(7, template.modeSeed());
+                    try (ResultSet r = ps.executeQuery()) {
+                        while (r.next()) {
+                            out.add(new ExhaustiveCertificate(r.getLong(1), r.getString(2), r.getInt(3)));
+                        }
+                    }
+                }
+                return out;
+            });
+        }
+    }
+
     /**
      * The stored evaluations among {@code keys}, each with {@code run}'s budget spent once it paid for it
      * ({@link Stored#spentWhenPaid()}; NaN when {@code run} is null or has not paid for it), in one batched query

@@ -130,6 +130,82 @@ class RankTestsTest {
         assertEquals(-1.0, RankTests.spearman(new double[] {1, 2, 3}, new double[] {3, 2, 1}), 1e-15);
     }
 
+    // Source: the worked example of the Wikipedia article "Wilcoxon signed-rank test" (values from memory): ten pairs,
+    // one zero difference dropped (Wilcoxon's original treatment), two tied |differences| of 5 sharing rank 1.5;
+    // the article's statistic W = sum of signed ranks = 9 over N_r = 9 pairs, i.e. W+ = (9 + 45) / 2 = 27. The
+    // p-value is checked against the brute-force enumeration of the 2^9 sign assignments (ties included).
+    @Test
+    void theWilcoxonWorkedExample() {
+        double[] x2 = {125, 115, 130, 140, 140, 115, 140, 125, 140, 135};
+        double[] x1 = {110, 122, 125, 120, 140, 124, 123, 137, 135, 145};
+        RankTests.Result r = RankTests.wilcoxonSignedRank(x2, x1, false);
+        int nr = 9;
+        assertEquals(9, 2 * r.statistic() - nr * (nr + 1) / 2.0, 1e-12);
+        assertEquals(27, r.statistic(), 1e-12);
+        assertEquals(bruteWilcoxon(x2, x1, false), r.pValue(), 1e-12);
+        // The article: |W| = 9 is below the critical value for N_r = 9 at 0.05 (two-sided), so H0 stands.
+        assertTrue(r.pValue() > 0.05, "p " + r.pValue());
+    }
+
+    // Source: the tortoise-and-hare example of the Wikipedia article "Mann–Whitney U test" (from memory): six tortoises
+    // and six hares finish in the order T H H H H H T T T T T H; the first tortoise beats six hares and the other five
+    // one each, U_T = 11, and U_H = 36 - 11 = 25. Critical value for n1 = n2 = 6 at 0.05 two-sided: U <= 5 (standard
+    // tables, from memory): checked with samples at U = 5 and U = 6.
+    @Test
+    void theMannWhitneyWorkedExample() {
+        double[] tortoises = {1, 7, 8, 9, 10, 11};
+        double[] hares = {2, 3, 4, 5, 6, 12};
+        // U counts pairs with x > y: a later finishing position loses, so U(hares, tortoises) counts tortoise wins.
+        assertEquals(11, RankTests.mannWhitneyU(hares, tortoises).statistic(), 1e-12);
+        assertEquals(25, RankTests.mannWhitneyU(tortoises, hares).statistic(), 1e-12);
+        assertEquals(RankTests.mannWhitneyU(hares, tortoises).pValue(), RankTests.mannWhitneyU(tortoises, hares)
+                .pValue(), 1e-15);
+        RankTests.Result five = RankTests.mannWhitneyU(new double[] {1, 2, 3, 4, 5, 11}, new double[] {6, 7, 8, 9, 10,
+            12});
+        RankTests.Result six = RankTests.mannWhitneyU(new double[] {1, 2, 3, 4, 6, 11}, new double[] {5, 7, 8, 9, 10,
+            12});
+        assertEquals(5, five.statistic(), 1e-12);
+        assertEquals(6, six.statistic(), 1e-12);
+        assertTrue(five.pValue() <= 0.05 && six.pValue() > 0.05, five.pValue() + " " + six.pValue());
+    }
+
+    // Source: the worked example of the Wikipedia article "Spearman's rank correlation coefficient" (from memory): IQ
+    // against hours of television per week for ten people, no ties, sum of squared rank differences 194, so
+    // rho = 1 - 6 * 194 / (10 * 99) = -29/165.
+    @Test
+    void theSpearmanWorkedExample() {
+        double[] iq = {106, 100, 86, 101, 99, 103, 97, 113, 112, 110};
+        double[] tv = {7, 27, 2, 50, 28, 29, 20, 12, 6, 17};
+        assertEquals(-29.0 / 165, RankTests.spearman(iq, tv), 1e-12);
+    }
+
+    // Source: analytic. On a 2 x 2 table (a, b; c, d) the concordant pairs are a·d and the discordant b·c, and the
+    // pairs untied on each variable are (a + b)(c + d) and (a + c)(b + d), so Kendall's tau-b equals the phi
+    // coefficient (ad - bc) / sqrt((a + b)(c + d)(a + c)(b + d)) (a textbook identity: common practice).
+    @Test
+    void kendallTauBOnATwoByTwoTableIsThePhiCoefficient() {
+        int[][] tables = {{10, 5, 3, 12}, {7, 0, 2, 9}, {4, 6, 8, 1}, {20, 19, 18, 17}};
+        for (int[] t : tables) {
+            int n = t[0] + t[1] + t[2] + t[3];
+            double[] x = new double[n];
+            double[] y = new double[n];
+            int i = 0;
+            int[][] cells = {{1, 1}, {1, 0}, {0, 1}, {0, 0}};
+            for (int c = 0; c < 4; c++) {
+                for (int k = 0; k < t[c]; k++, i++) {
+                    x[i] = cells[c][0];
+                    y[i] = cells[c][1];
+                }
+            }
+            double a = t[0];
+            double b = t[1];
+            double c = t[2];
+            double d = t[3];
+            double phi = (a * d - b * c) / Math.sqrt((a + b) * (c + d) * (a + c) * (b + d));
+            assertEquals(phi, RankTests.kendallTauB(x, y), 1e-12, java.util.Arrays.toString(t));
+        }
+    }
+
     // Source: hand calculation. With 10 paired seeds the exact two-sided Wilcoxon p is at least 2/2^10; Holm over 3
     // comparisons multiplies the smallest by 3: 6/1024. Reaching 0.05 over 3 comparisons needs 7 pairs (6/128 = 0.047;
     // 6 pairs give 6/64 = 0.094).

@@ -119,6 +119,7 @@ public final class AuditCommand implements Callable<Integer> {
             pw.printf("Smallest critical set in the store: %s%s.%n", searched, searchedIrreducible == null ? ""
                     : searchedIrreducible ? ", irreducible (every one-region-smaller subset scored: none critical)"
                     : ", not irreducible (a one-region-smaller subset is critical)");
+            String minimumProof = minimumProof(pw, ctx, smallest);
             List<Ranking> loaded = new ArrayList<>();
             List<RegionSet> prefixSets = new ArrayList<>();
             int smallestPrefix = Integer.MAX_VALUE;
@@ -134,8 +135,9 @@ public final class AuditCommand implements Callable<Integer> {
                 String rankingName = file.getFileName().toString();
                 topK(pw, ctx, session, prefixes, bestBySize, n, rankingName);
                 CriticalPrefix.Result p = CriticalPrefix.find(ctx, prefixes);
-                String smallestCells = smallest == null ? "NA\tNA\tNA" : smallest.set().size() + "\t"
-                        + SearchCommand.names(session, smallest.set()) + "\t" + searchedIrreducible;
+                String smallestCells = (smallest == null ? "NA\tNA\tNA" : smallest.set().size() + "\t"
+                        + SearchCommand.names(session, smallest.set()) + "\t" + searchedIrreducible) + "\t"
+                        + (minimumProof == null ? "none" : minimumProof);
                 if (p.length() < 0) {
                     pw.println("  No prefix of this ranking is critical.");
                     prefixSets.add(null);
@@ -152,7 +154,7 @@ public final class AuditCommand implements Callable<Integer> {
                                 + "restored and the set stays critical)", p.monotoneAsSeen() ? ""
                                 : "; accuracy along the ranking was not monotone where scored, so a shorter critical "
                                 + "prefix cannot be ruled out");
-                String verdict = verdict(set.size(), smallest, searchedIrreducible, irr);
+                String verdict = verdict(set.size(), smallest, searchedIrreducible, irr, minimumProof != null);
                 pw.println("  " + verdict);
                 prefixRows.add(rankingName + "\t" + p.length() + "\t" + set.size() + "\t"
                         + SearchCommand.names(session, set) + "\t" + irr + "\t" + smallestCells + "\t" + verdict);
@@ -177,7 +179,7 @@ public final class AuditCommand implements Callable<Integer> {
         write(TOPK_TSV, "ranking\tk\tranking_accuracy\tbest_stored_accuracy\trandom_low05\trandom_median\t"
                 + "random_high95\trandom_at_or_below\trandom_sets\tp_permutation", topRows);
         write(PREFIX_TSV, "ranking\tprefix_units\tprefix_regions\tprefix_names\tprefix_irreducible\t"
-                + "smallest_size\tsmallest_names\tsmallest_irreducible\tverdict", prefixRows);
+                + "smallest_size\tsmallest_names\tsmallest_irreducible\tsmallest_minimum_proof\tverdict", prefixRows);
         write(AGREEMENT_TSV, "first\tsecond\tcommon_units\tspearman\tspearman_low95\tspearman_high95\t"
                 + "kendall_tau_b\tkendall_low95\tkendall_high95\tjaccard_prefixes", agreementRows);
     }
@@ -264,8 +266,32 @@ public final class AuditCommand implements Callable<Integer> {
         return true;
     }
 
+    /**
+     * Prints the exhaustive certificates earlier runs left under this criterion, and returns the one that proves the
+     * smallest stored critical set a minimum (its pool is every region and it rules out every smaller size), in words,
+     * or null.
+     */
+    private static String minimumProof(PrintWriter pw, SearchContext ctx, SearchContext.EarlierScore smallest) {
+        String proof = null;
+        for (SearchContext.ExhaustiveProof e : ctx.earlierExhaustiveCertificates()) {
+            boolean whole = e.pool().size() == ctx.regions();
+            String words = String.format(Locale.ROOT, "exhaustive certificate of run %d: no critical set of at most %d "
+                    + "regions among %s", e.runId(), e.maxSize(), whole ? "all " + ctx.regions() + " regions"
+                    : e.pool().size() + " of the " + ctx.regions() + " regions (its pool)");
+            pw.println("  " + Character.toUpperCase(words.charAt(0)) + words.substring(1) + ".");
+            if (whole && smallest != null && e.maxSize() >= smallest.set().size() - 1 && proof == null) {
+                proof = words;
+            }
+        }
+        if (proof != null) {
+            pw.printf("  So no critical set has fewer than %d regions: the smallest critical set in the store is a "
+                    + "minimum, not only the smallest found.%n", smallest.set().size());
+        }
+        return proof;
+    }
+
     static String verdict(int prefixSize, SearchContext.EarlierScore smallest, Boolean searchedIrreducible,
-                          boolean prefixIrreducible) {
+                          boolean prefixIrreducible, boolean minimumProved) {
         if (smallest == null) {
             return "Verdict: no search in the store found a critical set, so nothing shows this prefix is not minimal; "
                     + "that proves nothing either (run search or compare with the same --out).";
@@ -273,9 +299,16 @@ public final class AuditCommand implements Callable<Integer> {
         int s = smallest.set().size();
         if (s < prefixSize) {
             return "Verdict: NOT MINIMAL. A search found a critical set of " + s + " regions, smaller than this "
-                    + "ranking's critical prefix of " + prefixSize + ": the ranking's set is not the smallest.";
+                    + "ranking's critical prefix of " + prefixSize + ": the ranking's set is not the smallest"
+                    + (minimumProved ? "; an exhaustive certificate proves no critical set has fewer than " + s
+                    + " regions." : ".");
         }
         if (s == prefixSize) {
+            if (minimumProved) {
+                return "Verdict: MINIMUM. As small as the smallest critical set any search in the store found (" + s
+                        + " regions), and an exhaustive certificate over every region proves no critical set is "
+                        + "smaller.";
+            }
             return "Verdict: as small as the smallest critical set any search in the store found (" + s + " regions)"
                     + (prefixIrreducible ? ", and irreducible" : "") + ". Not finding a smaller set proves nothing: "
                     + "only an exhaustive certificate over a pool that holds every candidate would.";
@@ -291,6 +324,7 @@ public final class AuditCommand implements Callable<Integer> {
         pw.printf("%nAgreement between rankings (importance = the value in the ranking's own direction; ties kept; "
                 + "95%% percentile bootstrap over units, 2,000 resamples, seed %d):%n", seed);
         List<String[]> rows = new ArrayList<>();
+        List<String> outside = new ArrayList<>();
         rows.add(new String[] {"rankings", "common units", "Spearman (95% CI)", "Kendall tau-b (95% CI)",
             "Jaccard of critical prefixes"});
         for (int i = 0; i < loaded.size(); i++) {
@@ -307,6 +341,11 @@ public final class AuditCommand implements Callable<Integer> {
                     double[] y = common.stream().mapToDouble(b::get).toArray();
                     double[] rc = RankTests.bootstrapInterval(x, y, RankTests::spearman, 2000, seed, 0.95);
                     double[] tc = RankTests.bootstrapInterval(x, y, RankTests::kendallTauB, 2000, seed, 0.95);
+                    double r0 = RankTests.spearman(x, y);
+                    double t0 = RankTests.kendallTauB(x, y);
+                    if (r0 < rc[0] || r0 > rc[1] || t0 < tc[0] || t0 > tc[1]) {
+                        outside.add(files.get(i).getFileName() + " vs " + files.get(j).getFileName());
+                    }
                     rho = String.format(Locale.ROOT, "%.3f (%.3f to %.3f)", RankTests.spearman(x, y), rc[0], rc[1]);
                     tau = String.format(Locale.ROOT, "%.3f (%.3f to %.3f)", RankTests.kendallTauB(x, y), tc[0], tc[1]);
                     cells = String.join("\t", TextFiles.num(RankTests.spearman(x, y)), TextFiles.num(rc[0]),
@@ -325,6 +364,11 @@ public final class AuditCommand implements Callable<Integer> {
             }
         }
         Table.print(pw, rows);
+        if (!outside.isEmpty()) {
+            pw.printf("Note: an estimate lies outside its percentile interval (%s). Resampling units with replacement "
+                    + "repeats them, which adds ties and biases rank correlations when the units are few; read those "
+                    + "intervals with caution.%n", String.join("; ", outside));
+        }
     }
 
     /** Unit → importance: the value, negated when the ranking's values grow along its order (lower = more important). */

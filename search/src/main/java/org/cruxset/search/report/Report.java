@@ -539,11 +539,15 @@ public final class Report {
             TsvTable t = TsvTable.read(prefix);
             List<String[]> rows = new ArrayList<>();
             rows.add(new String[] {"ranking", "critical prefix (regions)", "irreducible", "smallest critical set in "
-                + "the store", "irreducible", "verdict"});
+                + "the store", "irreducible", "proved a minimum by", "verdict"});
             for (int r = 0; r < t.rowCount(); r++) {
-                rows.add(new String[] {t.get(r, 0), "NA".equals(t.get(r, 2)) ? "none" : t.get(r, 2) + ": "
-                    + t.get(r, 3), t.get(r, 4), "NA".equals(t.get(r, 5)) ? "none" : t.get(r, 5) + ": " + t.get(r, 6),
-                    t.get(r, 7), t.get(r, 8)});
+                String regions = t.get(r, t.column("prefix_regions"));
+                String smallest = t.get(r, t.column("smallest_size"));
+                rows.add(new String[] {t.get(r, t.column("ranking")), "NA".equals(regions) ? "none" : regions + ": "
+                    + t.get(r, t.column("prefix_names")), t.get(r, t.column("prefix_irreducible")),
+                    "NA".equals(smallest) ? "none" : smallest + ": " + t.get(r, t.column("smallest_names")),
+                    t.get(r, t.column("smallest_irreducible")), t.get(r, t.column("smallest_minimum_proof")),
+                    t.get(r, t.column("verdict"))});
             }
             table(rows);
         }
