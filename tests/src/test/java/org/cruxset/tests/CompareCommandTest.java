@@ -50,7 +50,8 @@ class CompareCommandTest {
             assertTrue(row.contains("|2/2|"), "both strategies reach the demo's minimum of 4 on both seeds: " + row);
         }
         assertTrue(o.contains("grow+prune~race vs surrogate~race"), o);
-        assertTrue(o.contains("the smallest Holm-adjusted p these 1 comparisons can reach is 0.5000"), o);
+        assertTrue(o.contains("the smallest Holm-adjusted p any of them can reach, whatever the data, is 0.5000"), o);
+        assertTrue(o.contains("Wilcoxon signed-rank, 2 pairs"), o);
         assertTrue(o.contains("reaching 0.05 needs at least 6 seeds"), o);
         List<String> perRun = readLines(out.resolve("compare-runs.tsv"));
         assertEquals(5, perRun.size(), "a header and four runs: " + perRun);

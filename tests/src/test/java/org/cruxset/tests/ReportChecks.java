@@ -75,7 +75,9 @@ final class ReportChecks {
                 "audit", "maps", "methods", "cautions")) {
             assertTrue(html.contains("<h2 id=\"" + section + "\""), "section " + section);
         }
-        assertTrue(count(html, "<table>") >= 5, "tables: intact, critical sets, strategies, audit prefixes and agreement");
+        assertTrue(count(html, "<table>") >= 6, "tables: intact, critical sets, strategies, tests between strategies, "
+                + "audit prefixes and agreement");
+        assertEquals(3, count(html, "Wilcoxon signed-rank, 2 pairs"), "three strategies, paired by seed: 3 tests");
         DocumentBuilderFactory xml = DocumentBuilderFactory.newInstance();
         xml.setFeature("http://apache.org/xml/features/nonvalidating/load-external-dtd", false);
         for (String f : FIGURES) {

@@ -13,12 +13,11 @@ import org.cruxset.scoring.cohort.Cohort;
 import org.cruxset.scoring.decoder.Decoder;
 import org.cruxset.scoring.eval.ScoringSession;
 import org.cruxset.scoring.eval.SetScore;
-import org.cruxset.scoring.stats.PairedTests;
-import org.cruxset.scoring.stats.RankTests;
 import org.cruxset.search.Hypervolume;
 import org.cruxset.search.SearchConfig;
 import org.cruxset.search.SearchRun;
 import org.cruxset.search.StrategySpec;
+import org.cruxset.search.StrategyTests;
 import picocli.CommandLine;
 import picocli.CommandLine.Command;
 import picocli.CommandLine.Mixin;
@@ -35,7 +34,8 @@ import picocli.CommandLine.Spec;
         description = {"Run strategies × seeds on equal budgets and compare them: best critical size (median and IQR), "
                 + "success against a known minimum, scored sets to the first critical set and to the best size, front "
                 + "hypervolume, time measured and decoder-equivalent; between strategies the Wilcoxon signed-rank test "
-                + "of best sizes paired by seed (exact, zeros by Pratt's method), Holm-corrected.",
+                + "of best sizes paired by seed (exact, zeros by Pratt's method; Mann-Whitney U where seeds differ), "
+                + "Holm-corrected.",
             "",
             "Every run goes through the one scorer, budget and store; a run is charged for every set it asks for, "
                 + "whoever decoded it first. Kill it at any time: the same command resumes every run."})
@@ -212,36 +212,30 @@ public final class CompareCommand implements Callable<Integer> {
                         + " / " + os.stream().mapToInt(Outcome::certified).sum()});
         }
         Table.print(pw, rows);
-        List<String> names = new ArrayList<>(by.keySet());
-        if (names.size() < 2) {
+        if (by.size() < 2) {
             return;
         }
-        List<String> pairs = new ArrayList<>();
-        List<double[]> stats = new ArrayList<>();
-        for (int i = 0; i < names.size(); i++) {
-            for (int j = i + 1; j < names.size(); j++) {
-                double[] a = bestSizes(by.get(names.get(i)));
-                double[] b = bestSizes(by.get(names.get(j)));
-                RankTests.Result w = RankTests.wilcoxonSignedRank(a, b, true);
-                pairs.add(names.get(i) + " vs " + names.get(j));
-                stats.add(new double[] {w.statistic(), w.pValue(), quantile(diff(a, b), 0.5)});
-            }
-        }
-        double[] p = stats.stream().mapToDouble(x -> x[1]).toArray();
-        double[] holm = PairedTests.holm(p);
-        pw.printf("%nBest critical size between strategies, paired by seed (Wilcoxon signed-rank, two-sided, exact "
-                + "permutation distribution given the midranks, zero differences by Pratt's method; Holm-corrected over "
-                + "%d comparisons; a run without a critical set counts as larger than any):%n", pairs.size());
+        Map<String, Map<Long, Integer>> bestBySeed = new LinkedHashMap<>();
+        by.forEach((name, os) -> {
+            Map<Long, Integer> m = new LinkedHashMap<>();
+            os.forEach(o -> m.put(o.seed(), o.best()));
+            bestBySeed.put(name, m);
+        });
+        List<StrategyTests.Row> tests = StrategyTests.between(bestBySeed);
+        pw.printf("%nBest critical size between strategies (two-sided exact tests: Wilcoxon signed-rank when paired by "
+                + "seed, zero differences by Pratt's method, the permutation distribution given the midranks; "
+                + "Mann-Whitney U when the seeds differ; Holm-corrected over %d comparisons; a run without a critical "
+                + "set counts as larger than any):%n", tests.size());
         List<String[]> t = new ArrayList<>();
-        t.add(new String[] {"comparison", "median difference", "W+", "p", "Holm p"});
-        for (int k = 0; k < pairs.size(); k++) {
-            t.add(new String[] {pairs.get(k), fmt(stats.get(k)[2]), fmt(stats.get(k)[0]),
-                String.format(Locale.ROOT, "%.4g", p[k]), String.format(Locale.ROOT, "%.4g", holm[k])});
+        t.add(new String[] {"comparison", "test", "median difference", "W+ or U", "p", "Holm p",
+            "smallest attainable Holm p"});
+        for (StrategyTests.Row r : tests) {
+            t.add(new String[] {r.first() + " vs " + r.second(), r.test(), fmt(r.medianDifference()),
+                fmt(r.statistic()), String.format(Locale.ROOT, "%.4g", r.p()),
+                String.format(Locale.ROOT, "%.4g", r.holm()), String.format(Locale.ROOT, "%.4g", r.smallestHolm())});
         }
         Table.print(pw, t);
-        pw.printf(Locale.ROOT, "With %d seeds the smallest Holm-adjusted p these %d comparisons can reach is %.4g; "
-                        + "reaching 0.05 needs at least %d seeds with non-zero differences.%n", seeds, pairs.size(),
-                RankTests.smallestHolmWilcoxonP(seeds, pairs.size()), RankTests.pairsNeeded(pairs.size(), 0.05));
+        pw.println(StrategyTests.power(tests));
     }
 
     private static void writeTsv(Path runs, Path anytime, List<Outcome> outcomes) {
@@ -268,23 +262,6 @@ public final class CompareCommand implements Callable<Integer> {
 
     private static String num(double v) {
         return Double.isNaN(v) ? "" : Double.toString(v);
-    }
-
-    private static double[] bestSizes(List<Outcome> os) {
-        double[] out = new double[os.size()];
-        for (int i = 0; i < out.length; i++) {
-            // A run without a critical set ranks above every run with one (one more than the largest size possible).
-            out[i] = os.get(i).best() < 0 ? 1e9 : os.get(i).best();
-        }
-        return out;
-    }
-
-    private static double[] diff(double[] a, double[] b) {
-        double[] d = new double[a.length];
-        for (int i = 0; i < d.length; i++) {
-            d[i] = a[i] - b[i];
-        }
-        return d;
     }
 
     private static double quantile(double[] v, double q) {

@@ -22,6 +22,7 @@ import org.cruxset.scoring.cohort.TsvTable;
 import org.cruxset.scoring.eval.CollapseCriterion;
 import org.cruxset.scoring.stats.ClusteredStats;
 import org.cruxset.scoring.store.StoreView;
+import org.cruxset.search.StrategyTests;
 import org.knowm.xchart.CategoryChart;
 import org.knowm.xchart.HeatMapChart;
 import org.knowm.xchart.XYChart;
@@ -312,13 +313,7 @@ public final class Report {
                     ClusteredStats.quantile(charged, 0.5)), confirmed + " / " + certified + " of " + reported});
         }
         table(rows);
-        Path compare = folder.resolve("compare-runs.tsv");
-        if (Files.exists(compare)) {
-            p("The pairwise tests between strategies (exact Wilcoxon signed-rank on seeds, Holm-adjusted) are in the "
-                    + "output of <code>cruxset compare</code>; its per-run table is <code>" + esc(compare.toString())
-                    + "</code>.");
-            methods.add("compare");
-        }
+        strategyTests(s);
         XYChart c = Plots.xy("Anytime: best critical size against sets charged (median over seeds)",
                 "sets charged (budget spent)", "smallest critical set found (regions)");
         int grid = 60;
@@ -361,6 +356,49 @@ public final class Report {
             }
         }
         return best;
+    }
+
+    /**
+     * Tests between the strategies of the compare runs in the store, on the budget most of them ran with (runs on
+     * other budgets are not comparable and are left out, saying so).
+     */
+    private void strategyTests(StoreView.Snapshot s) {
+        Map<Double, Integer> budgets = new LinkedHashMap<>();
+        for (StoreView.SearchRun r : s.searches()) {
+            if ("compare".equals(r.kind()) && r.budget() != null) {
+                budgets.merge(r.budget(), 1, Integer::sum);
+            }
+        }
+        if (budgets.isEmpty()) {
+            return;
+        }
+        double budget = budgets.entrySet().stream().max(Map.Entry.comparingByValue()).orElseThrow().getKey();
+        Map<String, Map<Long, Integer>> bestBySeed = new LinkedHashMap<>();
+        for (StoreView.SearchRun r : s.searches()) {
+            if ("compare".equals(r.kind()) && r.budget() != null && r.budget() == budget) {
+                bestBySeed.computeIfAbsent(r.label(), k -> new LinkedHashMap<>()).put(r.seed(),
+                        r.bestSize() == null ? -1 : r.bestSize());
+            }
+        }
+        if (bestBySeed.size() < 2) {
+            return;
+        }
+        List<StrategyTests.Row> tests = StrategyTests.between(bestBySeed);
+        p(String.format(Locale.ROOT, "Best critical size between strategies compared on a budget of %.0f scored sets "
+                + "(two-sided exact tests: Wilcoxon signed-rank when the runs are paired by seed, zero differences by "
+                + "Pratt's method; Mann&ndash;Whitney U when the seeds differ; Holm-corrected over %d comparisons; a "
+                + "run without a critical set counts as larger than any)%s.", budget, tests.size(), budgets.size() > 1
+                ? "; compare runs on other budgets are left out of these tests" : ""));
+        List<String[]> rows = new ArrayList<>();
+        rows.add(new String[] {"comparison", "test", "median difference", "p", "Holm p", "smallest attainable Holm p"});
+        for (StrategyTests.Row r : tests) {
+            rows.add(new String[] {r.first() + " vs " + r.second(), r.test(), size(r.medianDifference()),
+                String.format(Locale.ROOT, "%.4g", r.p()), String.format(Locale.ROOT, "%.4g", r.holm()),
+                String.format(Locale.ROOT, "%.4g", r.smallestHolm())});
+        }
+        table(rows);
+        p(esc(StrategyTests.power(tests)));
+        methods.add("compare");
     }
 
     private static String seeds(List<StoreView.SearchRun> runs) {
@@ -710,8 +748,10 @@ public final class Report {
             m.append("; reported sets were checked for irreducibility by scoring every one-region-smaller subset.");
         }
         if (methods.contains("compare")) {
-            m.append(" Strategies were compared on equal budgets over paired seeds with the exact Wilcoxon signed-rank "
-                    + "test (Wilcoxon 1945; zero differences by Pratt's method), Holm-adjusted (Holm 1979).");
+            m.append(" Strategies were compared on equal budgets with exact two-sided tests of their best critical "
+                    + "sizes: the Wilcoxon signed-rank test over seeds where runs were paired (Wilcoxon 1945; zero "
+                    + "differences by Pratt's method, Pratt 1959), the Mann&ndash;Whitney U test where they were not "
+                    + "(Mann &amp; Whitney 1947), Holm-adjusted (Holm 1979).");
         }
         if (methods.contains("scan")) {
             m.append(" Single-region lesions were compared with the intact decoder on the same samples.");
@@ -800,7 +840,8 @@ public final class Report {
     }
 
     private static String size(double v) {
-        return Double.isInfinite(v) ? "none" : String.format(Locale.ROOT, "%.1f", v).replace(".0", "");
+        return Double.isInfinite(v) || Math.abs(v) >= 1e8 ? "none" : String.format(Locale.ROOT, "%.1f", v)
+                .replace(".0", "");
     }
 
     private static String f3(double v) {
