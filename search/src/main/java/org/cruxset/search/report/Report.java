@@ -147,6 +147,14 @@ public final class Report {
                     cells.add(new Number[] {q, t, s.confusion()[t][q]});
                 }
             }
+            int most = 1;
+            for (int[] row : s.confusion()) {
+                for (int v : row) {
+                    most = Math.max(most, v);
+                }
+            }
+            c.getStyler().setMin(0);
+            c.getStyler().setMax(most);
             c.addSeries("samples", s.classes(), s.classes(), cells);
             figure("confusion", "Confusion matrix of the intact decoder on the search part (counts of samples; rows: "
                     + "true class, columns: predicted).", c);
@@ -181,7 +189,24 @@ public final class Report {
         List<String[]> rows = new ArrayList<>();
         rows.add(new String[] {"regions", "size", "networks", "search accuracy (95% Wilson)", "search p (at chance)",
             "confirmation accuracy (95% Wilson)", "confirmed", "certificate", "found by"});
+        // The sets a reader needs: the smallest found and those at most two regions larger, at most 25 rows; the rest
+        // (e.g. a random search's large sets) are counted below the table.
+        int smallestSize = bySet.get(keys.get(0)).get(0).search().setSize();
+        List<String> shown = new ArrayList<>();
+        Set<String> leftOutBy = new TreeSet<>();
+        int leftOutMin = Integer.MAX_VALUE;
+        int leftOutMax = 0;
         for (String key : keys) {
+            int size = bySet.get(key).get(0).search().setSize();
+            if (size <= smallestSize + 2 && shown.size() < 25) {
+                shown.add(key);
+            } else {
+                leftOutBy.addAll(foundBy.get(key));
+                leftOutMin = Math.min(leftOutMin, size);
+                leftOutMax = Math.max(leftOutMax, size);
+            }
+        }
+        for (String key : shown) {
             StoreView.Reported x = bySet.get(key).get(0);
             String cert = "none";
             for (StoreView.Reported y : bySet.get(key)) {
@@ -200,7 +225,13 @@ public final class Report {
                 String.join(", ", foundBy.get(key))});
         }
         table(rows);
-        int smallest = bySet.get(keys.get(0)).get(0).search().setSize();
+        if (shown.size() < keys.size()) {
+            p((keys.size() - shown.size()) + " more reported critical set(s), of " + leftOutMin + (leftOutMax > leftOutMin
+                    ? " to " + leftOutMax : "") + " regions (found by " + esc(String.join(", ", leftOutBy)) + "), are "
+                    + "left out of this table, which shows the smallest size found and up to two regions more; "
+                    + "<code>cruxset export</code> lists every one (search_results.tsv).");
+        }
+        int smallest = smallestSize;
         List<Set<String>> smallestSets = new ArrayList<>();
         for (String key : keys) {
             if (bySet.get(key).get(0).search().setSize() == smallest) {
@@ -283,9 +314,31 @@ public final class Report {
             return;
         }
         h2("anytime", "Strategies on equal budgets");
-        Map<String, List<StoreView.SearchRun>> byLabel = new LinkedHashMap<>();
+        // The compare runs on the budget most of them ran with are comparable; without compare runs, every search.
+        Map<Double, Integer> budgets = new LinkedHashMap<>();
         for (StoreView.SearchRun r : s.searches()) {
-            byLabel.computeIfAbsent(r.label(), k -> new ArrayList<>()).add(r);
+            if ("compare".equals(r.kind()) && r.budget() != null) {
+                budgets.merge(r.budget(), 1, Integer::sum);
+            }
+        }
+        Double budget = budgets.isEmpty() ? null
+                : budgets.entrySet().stream().max(Map.Entry.comparingByValue()).orElseThrow().getKey();
+        Map<String, List<StoreView.SearchRun>> byLabel = new LinkedHashMap<>();
+        Map<String, Integer> others = new LinkedHashMap<>();
+        for (StoreView.SearchRun r : s.searches()) {
+            if (budget == null || "compare".equals(r.kind()) && budget.equals(r.budget())) {
+                byLabel.computeIfAbsent(r.label(), k -> new ArrayList<>()).add(r);
+            } else {
+                others.merge(r.label(), 1, Integer::sum);
+            }
+        }
+        if (budget != null) {
+            StringBuilder o = new StringBuilder();
+            others.forEach((k, v) -> o.append(o.length() == 0 ? "" : ", ").append(esc(k)).append(" (").append(v)
+                    .append(v == 1 ? " run)" : " runs)"));
+            p(String.format(Locale.ROOT, "The runs of <code>cruxset compare</code> on a budget of %.0f scored sets "
+                    + "each%s.", budget, o.length() == 0 ? "" : "; other searches in the store, on other budgets, are "
+                    + "left out of this section: " + o));
         }
         List<String[]> rows = new ArrayList<>();
         rows.add(new String[] {"strategy", "runs (seeds)", "best critical size median [IQR]", "sets charged (median)",
@@ -313,9 +366,12 @@ public final class Report {
                     ClusteredStats.quantile(charged, 0.5)), confirmed + " / " + certified + " of " + reported});
         }
         table(rows);
-        strategyTests(s);
+        if (budget != null) {
+            strategyTests(byLabel, budget);
+        }
         XYChart c = Plots.xy("Anytime: best critical size against sets charged (median over seeds)",
                 "sets charged (budget spent)", "smallest critical set found (regions)");
+        c.getStyler().setXAxisMin(0.0); // the budget starts at 0 (and round ticks follow)
         int grid = 60;
         int i = 0;
         for (Map.Entry<String, List<StoreView.SearchRun>> e : byLabel.entrySet()) {
@@ -358,28 +414,14 @@ public final class Report {
         return best;
     }
 
-    /**
-     * Tests between the strategies of the compare runs in the store, on the budget most of them ran with (runs on
-     * other budgets are not comparable and are left out, saying so).
-     */
-    private void strategyTests(StoreView.Snapshot s) {
-        Map<Double, Integer> budgets = new LinkedHashMap<>();
-        for (StoreView.SearchRun r : s.searches()) {
-            if ("compare".equals(r.kind()) && r.budget() != null) {
-                budgets.merge(r.budget(), 1, Integer::sum);
-            }
-        }
-        if (budgets.isEmpty()) {
-            return;
-        }
-        double budget = budgets.entrySet().stream().max(Map.Entry.comparingByValue()).orElseThrow().getKey();
+    /** Tests between the strategies of the comparable compare runs (see {@link StrategyTests}). */
+    private void strategyTests(Map<String, List<StoreView.SearchRun>> byLabel, double budget) {
         Map<String, Map<Long, Integer>> bestBySeed = new LinkedHashMap<>();
-        for (StoreView.SearchRun r : s.searches()) {
-            if ("compare".equals(r.kind()) && r.budget() != null && r.budget() == budget) {
-                bestBySeed.computeIfAbsent(r.label(), k -> new LinkedHashMap<>()).put(r.seed(),
-                        r.bestSize() == null ? -1 : r.bestSize());
-            }
-        }
+        byLabel.forEach((label, runs) -> {
+            Map<Long, Integer> m = new LinkedHashMap<>();
+            runs.forEach(r -> m.put(r.seed(), r.bestSize() == null ? -1 : r.bestSize()));
+            bestBySeed.put(label, m);
+        });
         if (bestBySeed.size() < 2) {
             return;
         }
@@ -387,8 +429,7 @@ public final class Report {
         p(String.format(Locale.ROOT, "Best critical size between strategies compared on a budget of %.0f scored sets "
                 + "(two-sided exact tests: Wilcoxon signed-rank when the runs are paired by seed, zero differences by "
                 + "Pratt's method; Mann&ndash;Whitney U when the seeds differ; Holm-corrected over %d comparisons; a "
-                + "run without a critical set counts as larger than any)%s.", budget, tests.size(), budgets.size() > 1
-                ? "; compare runs on other budgets are left out of these tests" : ""));
+                + "run without a critical set counts as larger than any).", budget, tests.size()));
         List<String[]> rows = new ArrayList<>();
         rows.add(new String[] {"comparison", "test", "median difference", "p", "Holm p", "smallest attainable Holm p"});
         for (StrategyTests.Row r : tests) {
@@ -544,8 +585,10 @@ public final class Report {
                     max = Math.max(max, Double.isFinite(x) ? Math.abs(x) : 0);
                 }
             }
-            c.getStyler().setMin(-max);
-            c.getStyler().setMax(max);
+            // A symmetric scale with round ends (the colour legend prints its ends as they are).
+            double end = Math.ceil(max * 100) / 100;
+            c.getStyler().setMin(-end);
+            c.getStyler().setMax(end);
             c.addSeries("interaction", names, names, cells);
             figure(f.getFileName().toString().replace(".tsv", ""), "Interaction matrix (diagonal: not defined, "
                     + "shown as 0). Table: <code>" + esc(f.getFileName().toString()) + "</code>.", c);
