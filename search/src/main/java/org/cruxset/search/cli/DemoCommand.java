@@ -32,8 +32,11 @@ import picocli.CommandLine.Spec;
 @Command(name = "demo", mixinStandardHelpOptions = true,
         description = {"Run Cruxset on the bundled synthetic demo: the decoder's held-out accuracy on the search and "
                 + "confirmation parts, what lesioning its smallest critical sets (and, as a control, as many decoy regions) "
-                + "does to it, and a short search that finds them without the truth. The demo cohort is generated from "
-                + "DIR/demo.yaml on first use (a few seconds)."})
+                + "does to it, and a short search that finds them without the truth. Then the tour, each step a cruxset "
+                + "command on the same results store: a network scan, gradient saliency, network Shapley values, a "
+                + "compare of every strategy on equal budgets, the deletion curve of the saliency ranking, the audit "
+                + "of three rankings, and the report (about half a minute on 2 cores). The demo cohort is generated "
+                + "from DIR/demo.yaml on first use (a few seconds)."})
 public final class DemoCommand implements Callable<Integer> {
     /** The demo's settings, decoder and committed truth inside the demo folder. */
     static final String CONFIG = "demo.yaml";
