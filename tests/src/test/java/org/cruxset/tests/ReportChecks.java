@@ -26,7 +26,8 @@ import org.w3c.dom.Document;
  */
 final class ReportChecks {
     /** Figures the report must draw from the analyses run here. */
-    static final List<String> FIGURES = List.of("confusion", "fronts", "anytime", "deletion-curve", "shapley-networks",
+    static final List<String> FIGURES = List.of("confusion", "fronts", "anytime", "anytime-at-size", "deletion-curve",
+            "shapley-networks",
             "shapley-networks-interactions", "scan-regions", "saliency-regions", "audit-topk-0", "audit-topk-1");
 
     private ReportChecks() {

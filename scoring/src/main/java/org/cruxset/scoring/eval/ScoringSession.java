@@ -41,7 +41,15 @@ public final class ScoringSession implements AutoCloseable {
      */
     public record Settings(LesionMode mode, long modeSeed, Cohort reference, CollapseCriterion criterion, double budget,
                            int threads, Path outDir, String kind, String command, long seed, long splitSeed,
-                           double confirm) {
+                           double confirm, java.util.function.UnaryOperator<Decoder> distribute) {
+        /** Settings that score on this machine ({@code distribute} null). */
+        public Settings(LesionMode mode, long modeSeed, Cohort reference, CollapseCriterion criterion, double budget,
+                        int threads, Path outDir, String kind, String command, long seed, long splitSeed,
+                        double confirm) {
+            this(mode, modeSeed, reference, criterion, budget, threads, outDir, kind, command, seed, splitSeed, confirm,
+                    null);
+        }
+
         public Settings {
             Objects.requireNonNull(mode, "mode");
             Objects.requireNonNull(criterion, "criterion");
@@ -72,6 +80,8 @@ public final class ScoringSession implements AutoCloseable {
     }
 
     private final Decoder decoder;
+    /** The decoder the scorers use: {@code decoder}, or its twin on a decode backend (a cluster). */
+    private final Decoder scoringDecoder;
     private final Cohort cohort;
     private final Settings settings;
     private final HeldOut heldOut;
@@ -85,6 +95,7 @@ public final class ScoringSession implements AutoCloseable {
 
     private ScoringSession(Decoder decoder, Cohort cohort, Settings s) {
         this.decoder = decoder;
+        this.scoringDecoder = s.distribute() == null ? decoder : s.distribute().apply(decoder);
         this.cohort = cohort;
         this.settings = s;
         ModelCard card = decoder.card();
@@ -125,7 +136,7 @@ public final class ScoringSession implements AutoCloseable {
 
     private Part part(String name, ModelInputs in, ReferenceStats ref, Budget budget, double cost, List<String> names) {
         LesionFill fill = LesionFills.of(settings.mode(), settings.modeSeed(), ref, in.batch(), in.sampleIds());
-        LesionScorer scorer = new LesionScorer(decoder, in, settings.mode(), settings.modeSeed(), fill, store, run, budget,
+        LesionScorer scorer = new LesionScorer(scoringDecoder, in, settings.mode(), settings.modeSeed(), fill, store, run, budget,
                 cost, settings.threads(), names::get);
         LesionScorer.Scored intact = scorer.score(RegionSet.empty(in.batch().regions()));
         return new Part(name, in, scorer, intact, settings.criterion());

@@ -13,6 +13,7 @@ import java.util.List;
 import java.util.Map;
 import java.util.Objects;
 import org.cruxset.scoring.decoder.Decoder;
+import org.cruxset.scoring.decoder.DecoderSource;
 import org.cruxset.scoring.decoder.ModelCard;
 import org.cruxset.scoring.decoder.Preprocessing;
 import org.cruxset.scoring.gru.NativeRecurrentDecoder;
@@ -52,6 +53,36 @@ public final class OnnxModels {
         } catch (IOException e) {
             throw new IllegalArgumentException("cannot read model " + model + ": " + e, e);
         }
+        return load(bytes, model, options, null, intraOpThreads);
+    }
+
+    /**
+     * Opens the decoder a {@link DecoderSource} describes, in another JVM (a cluster's executor): the same bytes,
+     * engine, layout, class labels and preprocessing as where it was first opened, so it decodes identically.
+     */
+    public static Decoder open(DecoderSource source) {
+        OnnxOptions options = new OnnxOptions(source.engine().equals(NATIVE) ? Engine.NATIVE : Engine.ONNXRUNTIME,
+                Layout.valueOf(source.layout()), null, Preprocessing.parse(source.preprocessing()));
+        return load(source.model(), Path.of(source.name()), options, source.classLabels(), source.intraOpThreads());
+    }
+
+    /**
+     * What another JVM needs to open {@code opened} again exactly: the model file's bytes and the engine, layout,
+     * class labels and preprocessing it was opened with (from its card, so an {@code auto} engine stays the one
+     * chosen here).
+     */
+    public static DecoderSource source(Path model, OnnxOptions options, Decoder opened, int intraOpThreads) {
+        try {
+            return new DecoderSource(Files.readAllBytes(model), model.getFileName().toString(),
+                    opened.card().engine(), options.layout().name(), opened.card().classLabels(),
+                    opened.card().preprocessing().label(), intraOpThreads);
+        } catch (IOException e) {
+            throw new IllegalArgumentException("cannot read model " + model + ": " + e, e);
+        }
+    }
+
+    private static Decoder load(byte[] bytes, Path model, OnnxOptions options, List<String> givenLabels,
+                                int intraOpThreads) {
         ModelProto proto;
         Signature sig;
         try {
@@ -65,7 +96,7 @@ public final class OnnxModels {
         String refusal = analysis instanceof Refused r ? r.reason() : null;
         Map<String, String> meta = sig.metadata();
 
-        List<String> labels = classLabels(model, options.classesFile(), meta);
+        List<String> labels = givenLabels != null ? givenLabels : classLabels(model, options.classesFile(), meta);
         int width = canonical != null ? ModelReader.classes(canonical) : sig.classes();
         if (width > 0 && width != labels.size()) {
             throw new IllegalArgumentException("model " + model + " gives " + width + " class scores but "

@@ -29,8 +29,8 @@ public final class StoreView {
         }
     }
 
-    /** A point of a run's anytime trace: after {@code charged} sets the best set of {@code size} improved. */
-    public record TracePoint(double charged, int size, boolean critical) {
+    /** A point of a run's anytime trace: after {@code charged} sets the best set of {@code size} improved, to {@code accuracy}. */
+    public record TracePoint(double charged, int size, boolean critical, double accuracy) {
     }
 
     /** A reported set: its search-part and confirmation-part scores and its certificate. */
@@ -277,12 +277,14 @@ public final class StoreView {
             }
         }
         List<TracePoint> trace = new ArrayList<>();
-        try (PreparedStatement p = c.prepareStatement("SELECT sets_charged, set_size, critical FROM search_trace "
-                + "WHERE run_id = ? ORDER BY position")) {
+        try (PreparedStatement p = c.prepareStatement("SELECT t.sets_charged, t.set_size, t.critical, e.correct, e.n "
+                + "FROM search_trace t JOIN evaluations e ON e.id = t.evaluation_id WHERE t.run_id = ? "
+                + "ORDER BY t.position")) {
             p.setLong(1, s.runId());
             try (ResultSet r = p.executeQuery()) {
                 while (r.next()) {
-                    trace.add(new TracePoint(r.getDouble(1), r.getInt(2), r.getInt(3) == 1));
+                    trace.add(new TracePoint(r.getDouble(1), r.getInt(2), r.getInt(3) == 1,
+                            (double) r.getInt(4) / r.getInt(5)));
                 }
             }
         }

@@ -73,6 +73,9 @@ public final class CompareCommand implements Callable<Integer> {
             + "command line win.")
     Path config;
 
+    /** The hypervolume's objectives and reference point, in words (set with the first run's session). */
+    private String hypervolumeNote;
+
     /** One run's outcome. */
     record Outcome(String strategy, long seed, int best, double firstCritical, double toBest, double charged,
                    double hypervolume, double seconds, long decodedSamples, double decodeSeconds, int samples,
@@ -122,6 +125,10 @@ public final class CompareCommand implements Callable<Integer> {
                             intactLine = String.format(Locale.ROOT, "Intact search-part accuracy %.3f (n = %d), "
                                     + "chance %.3f. Critical means %s.", intact.accuracy(), intact.n(), intact.chance(),
                                     session.settings().criterion().describe());
+                            hypervolumeNote = String.format(Locale.ROOT, "Hypervolume: of each run's front in (size / "
+                                    + "%d, search-part accuracy), both minimised, against the reference point (1, %.3f = "
+                                    + "intact accuracy); larger is better, at most %.3f.",
+                                    session.inputs().batch().regions(), intact.accuracy(), intact.accuracy());
                         }
                         double[] first = {Double.NaN};
                         List<double[]> anytime = new ArrayList<>();
@@ -212,6 +219,9 @@ public final class CompareCommand implements Callable<Integer> {
                         + " / " + os.stream().mapToInt(Outcome::certified).sum()});
         }
         Table.print(pw, rows);
+        if (hypervolumeNote != null) {
+            pw.println(hypervolumeNote);
+        }
         if (by.size() < 2) {
             return;
         }

@@ -36,8 +36,17 @@ public final class ModelOptions {
         return threads.threads();
     }
 
+    /** What a cluster's executors need to open {@code opened} (this model) exactly as here. */
+    org.cruxset.scoring.decoder.DecoderSource source(Decoder opened) {
+        return OnnxModels.source(model, options(), opened, 1);
+    }
+
     /** Opens the decoder. */
     Decoder open() {
+        return OnnxModels.load(model, options());
+    }
+
+    private OnnxOptions options() {
         OnnxOptions.Engine e = switch (engine.toLowerCase(java.util.Locale.ROOT)) {
             case "auto" -> OnnxOptions.Engine.AUTO;
             case "native" -> OnnxOptions.Engine.NATIVE;
@@ -51,6 +60,6 @@ public final class ModelOptions {
             default -> throw new IllegalArgumentException("--layout must be auto, batch-first or time-first, found '" + layout + "'");
         };
         Preprocessing p = preprocessing == null ? null : Preprocessing.parse(preprocessing);
-        return OnnxModels.load(model, new OnnxOptions(e, l, classes, p));
+        return new OnnxOptions(e, l, classes, p);
     }
 }

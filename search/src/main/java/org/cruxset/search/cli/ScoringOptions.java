@@ -37,8 +37,23 @@ public final class ScoringOptions {
             description = "Output folder holding the results store (results.sqlite). Default: ${DEFAULT-VALUE}.")
     Path out;
 
+    @Option(names = "--spark", paramLabel = "MASTER",
+            description = "Decode on Apache Spark: local[N] (embedded, N cores) or spark://HOST:PORT (a standalone "
+                    + "cluster). The driver keeps the strategy, budget and results store; executors score the sets. "
+                    + "Needs the cluster build (./cruxset-cluster; README: Running on a cluster).")
+    String spark;
+
     @Mixin
     PartOptions parts;
+
+    /** The command this mixin is part of (to find its model options, which --spark ships to the executors). */
+    @picocli.CommandLine.Spec(picocli.CommandLine.Spec.Target.MIXEE)
+    picocli.CommandLine.Model.CommandSpec mixee;
+
+    /** The message of a build without a cluster backend. */
+    static final String NO_CLUSTER = "--spark needs the cluster build of Cruxset (Apache Spark is not in the default "
+            + "application): build it with 'mvn -B -pl cluster -am package -DskipTests' and run ./cruxset-cluster "
+            + "instead of ./cruxset (README: Running on a cluster)";
 
     /** The output folder. */
     Path out() {
@@ -66,6 +81,31 @@ public final class ScoringOptions {
      */
     ScoringSession.Settings settings(String kind, String command, long seed, double budget, int threads) {
         return new ScoringSession.Settings(mode(), modeSeed, reference(), criterion(), budget, threads, out, kind,
-                command, seed, parts.splitSeed(), parts.confirm());
+                command, seed, parts.splitSeed(), parts.confirm(), distribute());
+    }
+
+    /** With --spark, how the session's decoder goes to the cluster; null otherwise. */
+    private java.util.function.UnaryOperator<org.cruxset.scoring.decoder.Decoder> distribute() {
+        if (spark == null) {
+            return null;
+        }
+        ModelOptions model = null;
+        for (picocli.CommandLine.Model.CommandSpec m : mixee.mixins().values()) {
+            if (m.userObject() instanceof ModelOptions o) {
+                model = o;
+            }
+        }
+        if (model == null) {
+            throw new IllegalArgumentException("--spark: this command has no model to ship to the executors");
+        }
+        org.cruxset.scoring.decoder.DecodeBackend backend = org.cruxset.scoring.decoder.DecodeBackend.open("spark",
+                spark, NO_CLUSTER);
+        ModelOptions m = model;
+        return local -> backend.distribute(local, m.source(local));
+    }
+
+    /** The --spark master, or null. */
+    String spark() {
+        return spark;
     }
 }

@@ -89,7 +89,7 @@ public final class Report {
         dataAndModel(s, criterion);
         criticalSets(s);
         fronts(s, criterion);
-        anytime(s);
+        anytime(s, criterion);
         deletionCurve();
         values();
         interactions();
@@ -309,7 +309,7 @@ public final class Report {
         methods.add("fronts");
     }
 
-    private void anytime(StoreView.Snapshot s) {
+    private void anytime(StoreView.Snapshot s, CollapseCriterion criterion) {
         if (s.searches().isEmpty()) {
             return;
         }
@@ -402,6 +402,75 @@ public final class Report {
                     + "given number of sets had been charged (a run charged for every set it asked for, whoever "
                     + "decoded it first). A line starts once half of the runs have found a critical set.", c);
         }
+        scoreAtSize(s, criterion, byLabel, maxCharged, grid);
+    }
+
+    /**
+     * The other anytime view: for the smallest critical size any of these runs found, each strategy's best search-part
+     * accuracy at that size against sets charged (median over its runs), with the critical limit.
+     */
+    private void scoreAtSize(StoreView.Snapshot s, CollapseCriterion criterion,
+                             Map<String, List<StoreView.SearchRun>> byLabel, double maxCharged, int grid) {
+        int k = Integer.MAX_VALUE;
+        for (List<StoreView.SearchRun> runs : byLabel.values()) {
+            for (StoreView.SearchRun r : runs) {
+                if (r.bestSize() != null && r.bestSize() > 0) {
+                    k = Math.min(k, r.bestSize());
+                }
+            }
+        }
+        if (k == Integer.MAX_VALUE || s.intact() == null) {
+            return;
+        }
+        XYChart c = Plots.xy("Anytime: best accuracy at " + k + " regions against sets charged (median over seeds)",
+                "sets charged (budget spent)", "best search-part accuracy of a " + k + "-region lesion");
+        c.getStyler().setXAxisMin(0.0);
+        int i = 0;
+        for (Map.Entry<String, List<StoreView.SearchRun>> e : byLabel.entrySet()) {
+            List<Double> xs = new ArrayList<>();
+            List<Double> ys = new ArrayList<>();
+            for (int g = 0; g <= grid; g++) {
+                double at = maxCharged * g / grid;
+                double[] b = new double[e.getValue().size()];
+                for (int r = 0; r < b.length; r++) {
+                    b[r] = accuracyAt(e.getValue().get(r).trace(), k, at);
+                }
+                Arrays.sort(b);
+                double m = ClusteredStats.quantile(b, 0.5);
+                if (Double.isFinite(m)) {
+                    xs.add(at);
+                    ys.add(m);
+                }
+            }
+            if (!xs.isEmpty()) {
+                XYSeries series = c.addSeries(e.getKey(), xs, ys);
+                Plots.look(series, i);
+                series.setXYSeriesRenderStyle(XYSeries.XYSeriesRenderStyle.Step);
+            }
+            i++;
+        }
+        if (c.getSeriesMap().isEmpty()) {
+            return;
+        }
+        double limit = criterion.criticalCount(s.intact().n(), s.intact().chance(), s.intact().score())
+                / (double) s.intact().n();
+        Plots.reference(c.addSeries("critical at or below", new double[] {0, maxCharged}, new double[] {limit,
+            limit}), true);
+        figure("anytime-at-size", "For the smallest critical size found (" + k + " regions), the lowest search-part "
+                + "accuracy each strategy had reached with a set of that size once a given number of sets had been "
+                + "charged, median over its runs; a line starts once half of the runs have scored a set of that size, "
+                + "and reaching the dashed limit means a critical set of that size was found.", c);
+    }
+
+    /** The best accuracy at {@code size} a run had reached after {@code charged} sets (infinity before any). */
+    private static double accuracyAt(List<StoreView.TracePoint> trace, int size, double charged) {
+        double best = Double.POSITIVE_INFINITY;
+        for (StoreView.TracePoint t : trace) {
+            if (t.charged() <= charged && t.size() == size) {
+                best = Math.min(best, t.accuracy());
+            }
+        }
+        return best;
     }
 
     private static double bestAt(List<StoreView.TracePoint> trace, double charged) {
