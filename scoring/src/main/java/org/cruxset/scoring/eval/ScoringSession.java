@@ -207,6 +207,11 @@ public final class ScoringSession implements AutoCloseable {
         return cohort;
     }
 
+    /** The decoder the scorers use: {@link #decoder()} itself, or its twin on a decode backend. */
+    public Decoder scoringDecoder() {
+        return scoringDecoder;
+    }
+
     public Decoder decoder() {
         return decoder;
     }

@@ -57,6 +57,9 @@ final class Reports {
     static void header(PrintWriter pw, org.cruxset.scoring.eval.ScoringSession session) {
         pw.println(CAUTION);
         pw.printf("Held-out data: %s.%n", session.heldOut().description());
+        if (session.scoringDecoder() != session.decoder()) {
+            pw.printf("Scoring: %s.%n", session.scoringDecoder().card().engineReason());
+        }
         parts(pw, session);
     }
 
