@@ -3,17 +3,12 @@ package org.cruxset.cluster;
 import static org.junit.jupiter.api.Assertions.assertEquals;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
-import java.io.IOException;
-import java.net.ServerSocket;
-import java.net.Socket;
 import java.nio.file.Files;
 import java.nio.file.Path;
 import java.sql.Connection;
 import java.sql.DriverManager;
 import java.sql.ResultSet;
 import java.sql.Statement;
-import java.util.ArrayList;
-import java.util.List;
 import java.util.Map;
 import java.util.TreeMap;
 import java.util.concurrent.atomic.AtomicLong;
@@ -34,7 +29,6 @@ class SparkStandaloneTest {
     @TempDir
     static Path dir;
     static ClusterFixture fixture;
-    private final List<Process> processes = new ArrayList<>();
     /** Logs and work folders of the master, workers and executors, kept after the test for reading. */
     private static final Path LOGS = Path.of("target", "standalone-test").toAbsolutePath();
 
@@ -53,25 +47,13 @@ class SparkStandaloneTest {
     void aSearchSurvivesAWorkerKilledMidRunAndEqualsTheOneMachineResult() throws Exception {
         Path home = Path.of(System.getProperty("cruxset.sparkHome", "target/spark")).toAbsolutePath();
         assertTrue(Files.isDirectory(home.resolve("jars")), "the build assembles the Spark home: " + home);
-        Files.writeString(home.resolve("RELEASE"), "Spark home assembled by the Cruxset build\n");
-        Files.createDirectories(LOGS);
         String[] search = {"search", "--model", fixture.model.toString(), "--cohort", fixture.cohort.toString(),
             "--strategy", "grow", "--budget", "600", "--threads", "2"};
         ClusterFixture.Run here = ClusterFixture.run(concat(search, "--out", dir.resolve("one").toString()))
                 .requireSuccess();
 
-        int masterPort = freePort();
-        String url = "spark://127.0.0.1:" + masterPort;
-        try {
-            start(home, "master", "org.apache.spark.deploy.master.Master", "--host", "127.0.0.1", "--port",
-                    Integer.toString(masterPort), "--webui-port", Integer.toString(freePort()));
-            waitForPort(masterPort);
-            Process w1 = start(home, "worker-1", "org.apache.spark.deploy.worker.Worker", "--host", "127.0.0.1",
-                    "--cores", "1", "--memory", "1g", "--work-dir", LOGS.resolve("w1").toString(), "--webui-port",
-                    Integer.toString(freePort()), url);
-            start(home, "worker-2", "org.apache.spark.deploy.worker.Worker", "--host", "127.0.0.1", "--cores", "1",
-                    "--memory", "1g", "--work-dir", LOGS.resolve("w2").toString(), "--webui-port",
-                    Integer.toString(freePort()), url);
+        try (StandaloneCluster cluster = StandaloneCluster.start(home, LOGS, 2, 1, "1g")) {
+            String url = cluster.url();
             Map<String, String> conf = Map.of("spark.executor.extraClassPath",
                     System.getProperty("cruxset.clusterClasses"), "spark.executor.memory", "768m", "spark.cores.max",
                     "2", "spark.driver.host", "127.0.0.1",
@@ -84,8 +66,7 @@ class SparkStandaloneTest {
                 while (System.nanoTime() < deadline) {
                     SparkBackend b = SparkBackend.current();
                     if (b != null && b.counts()[2] >= 40) {
-                        w1.descendants().forEach(ProcessHandle::destroyForcibly);
-                        w1.destroyForcibly();
+                        cluster.kill(1);
                         killedAt.set(b.counts()[2]);
                         return;
                     }
@@ -114,14 +95,10 @@ class SparkStandaloneTest {
             kernels.values().forEach(k -> assertEquals(Kernels.get().name(), k, "executor kernels " + kernels));
             assertEquals(SparkLocalTest.results(here.out()), SparkLocalTest.results(there.out()));
             Map<String, String> one = evaluations(dir.resolve("one/results.sqlite"));
-            Map<String, String> cluster = evaluations(dir.resolve("cluster/results.sqlite"));
-            assertEquals(one, cluster, "the same sets scored to the same outcomes");
+            Map<String, String> onCluster = evaluations(dir.resolve("cluster/results.sqlite"));
+            assertEquals(one, onCluster, "the same sets scored to the same outcomes");
         } finally {
             SparkBackend.stop();
-            for (Process p : processes) {
-                p.descendants().forEach(ProcessHandle::destroyForcibly);
-                p.destroyForcibly();
-            }
         }
     }
 
@@ -141,47 +118,9 @@ class SparkStandaloneTest {
         return out;
     }
 
-    private Process start(Path home, String name, String main, String... args) throws IOException {
-        List<String> cmd = new ArrayList<>();
-        cmd.add(ProcessHandle.current().info().command().orElse("java"));
-        cmd.add("-Xmx512m");
-        cmd.addAll(List.of(SparkBackend.OPENS.split(" ")));
-        cmd.add("-cp");
-        cmd.add(home.resolve("jars") + "/*");
-        cmd.add(main);
-        cmd.addAll(List.of(args));
-        ProcessBuilder pb = new ProcessBuilder(cmd).redirectErrorStream(true)
-                .redirectOutput(LOGS.resolve(name + ".log").toFile());
-        pb.environment().put("SPARK_HOME", home.toString());
-        pb.environment().put("SPARK_LOCAL_IP", "127.0.0.1");
-        pb.environment().put("SPARK_SCALA_VERSION", "2.13"); // read by the launcher code workers use for executors
-        Process p = pb.start();
-        processes.add(p);
-        return p;
-    }
-
     private static String[] concat(String[] a, String... b) {
         String[] out = java.util.Arrays.copyOf(a, a.length + b.length);
         System.arraycopy(b, 0, out, a.length, b.length);
         return out;
-    }
-
-    private static int freePort() throws IOException {
-        try (ServerSocket s = new ServerSocket(0)) {
-            return s.getLocalPort();
-        }
-    }
-
-    private static void waitForPort(int port) throws InterruptedException {
-        long deadline = System.nanoTime() + 60_000_000_000L;
-        while (System.nanoTime() < deadline) {
-            try (Socket s = new Socket("127.0.0.1", port)) {
-                return;
-            } catch (IOException e) {
-                Thread.sleep(200);
-            }
-        }
-        throw new AssertionError("the Spark master did not open port " + port + " within 60 s (see master.log in "
-                + LOGS + ")");
     }
 }
