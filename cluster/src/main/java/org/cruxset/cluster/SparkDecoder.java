@@ -40,6 +40,12 @@ final class SparkDecoder implements Decoder {
         return card;
     }
 
+    /** Four sets per task slot of the cluster (or per driver thread, if more), at most 4,096: one job per call. */
+    @Override
+    public int setsPerCall(int threads) {
+        return Math.min(4096, 4 * Math.max(threads, backend.context().defaultParallelism()));
+    }
+
     @Override
     public Bound bind(InputBatch batch) {
         return new SparkBound(batch);

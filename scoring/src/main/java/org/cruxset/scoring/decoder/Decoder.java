@@ -15,6 +15,15 @@ public interface Decoder extends AutoCloseable {
      */
     Bound bind(InputBatch batch);
 
+    /**
+     * How many sets the scorer should decode per {@link Bound#probabilities} call when it may use {@code threads}
+     * threads: enough to keep them busy, few enough to commit often. A decoder on a cluster asks for more (each call
+     * is one job there, and a job's overhead is paid once).
+     */
+    default int setsPerCall(int threads) {
+        return Math.max(1, Math.min(64, 4 * threads));
+    }
+
     @Override
     default void close() {
     }

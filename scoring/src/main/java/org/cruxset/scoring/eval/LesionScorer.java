@@ -98,7 +98,7 @@ public final class LesionScorer {
         }
         this.costPerSet = costPerSet;
         this.threads = threads;
-        this.chunk = Math.max(1, Math.min(64, 4 * threads));
+        this.chunk = decoder.setsPerCall(threads);
         this.regionName = Objects.requireNonNull(regionName, "regionName");
         this.memo = store == null ? new HashMap<>() : boundedCache(inputs.size());
         this.races = store == null ? new HashMap<>() : boundedRaces(inputs.size());

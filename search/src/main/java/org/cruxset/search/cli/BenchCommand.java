@@ -37,7 +37,8 @@ import picocli.CommandLine.Spec;
             "Measure scored lesion sets per second of Cruxset's own engine and of ONNX Runtime on a reference workload: "
                 + "a random GRU (or, with --cell lstm, LSTM) classifier written as ONNX and loaded by both engines, "
                 + "random inputs and random zero-fill lesion sets. A scored set is one set decoded on every sample. "
-                + "--suite search and --suite soak run the strategy and store benchmarks instead.",
+                + "--suite search and --suite soak run the strategy and store benchmarks instead; --suite cluster (the cluster "
+                + "build) compares one machine with Spark local[N] and a two-worker standalone cluster.",
             "",
             "ONNX Runtime is measured in two configurations: as Cruxset loads it (one intra-op thread per run, runs spread "
                 + "over --threads callers) and with --threads intra-op threads per run and one caller. The engines "
@@ -97,7 +98,9 @@ public final class BenchCommand implements Callable<Integer> {
     @Option(names = "--suite", paramLabel = "NAME", defaultValue = "engine",
             description = "engine (scored sets per second of both engines on the reference workload), search (strategies "
                     + "on planted lesion problems with a proven minimum and traps) or soak (many sets through the scorer "
-                    + "and store: sets per second, store bytes per set, heap in use). Default: ${DEFAULT-VALUE}.")
+                    + "and store: sets per second, store bytes per set, heap in use) or cluster (the cluster build: sets "
+                    + "per second on one machine, Spark local[N] and a two-worker standalone cluster, with Spark's "
+                    + "overhead per job and per set). Default: ${DEFAULT-VALUE}.")
     String suite;
 
     @Option(names = "--seeds", paramLabel = "N", defaultValue = "5",
@@ -129,8 +132,54 @@ public final class BenchCommand implements Callable<Integer> {
             case "soak" -> {
                 return soakSuite();
             }
-            default -> throw new IllegalArgumentException("--suite must be engine, search or soak, found '" + suite + "'");
+            case "cluster" -> {
+                return clusterSuite();
+            }
+            default -> throw new IllegalArgumentException("--suite must be engine, search, soak or cluster, found '"
+                    + suite + "'");
         }
+    }
+
+    /**
+     * The cluster suite (the cluster build only): the engine suite's workload model and samples, {@code --sets}
+     * lesion sets (default 48), measured by the suite the cluster build registers.
+     */
+    private int clusterSuite() {
+        validate();
+        org.cruxset.search.bench.ExternalSuite found = null;
+        for (org.cruxset.search.bench.ExternalSuite x : java.util.ServiceLoader.load(
+                org.cruxset.search.bench.ExternalSuite.class)) {
+            if (x.name().equals("cluster")) {
+                found = x;
+            }
+        }
+        if (found == null) {
+            throw new IllegalArgumentException("--suite cluster needs the cluster build of Cruxset (Apache Spark is not "
+                    + "in the default application): build it with 'mvn -B -pl cluster -am package -DskipTests' and run "
+                    + "./cruxset-cluster bench --suite cluster");
+        }
+        SplittableRandom rng = new SplittableRandom(seed);
+        GruNetwork net = network(rng);
+        InputBatch batch = inputs(rng);
+        List<String> labels = new ArrayList<>();
+        for (int k = 0; k < classes; k++) {
+            labels.add("class" + k);
+        }
+        Path file;
+        try {
+            file = Files.createTempFile("cruxset-bench-", ".onnx");
+            file.toFile().deleteOnExit();
+            Files.write(file, OnnxGruWriter.write(net, List.of(), labels, Preprocessing.NONE, Map.of()));
+        } catch (IOException e) {
+            throw new UncheckedIOException("cannot write the benchmark model: " + e.getMessage(), e);
+        }
+        int count = sets > 0 ? sets : 48;
+        String description = String.format(Locale.ROOT, "%d samples x %d steps x %d regions; 1 GRU layer of %d units; "
+                + "%d classes; %d lesion sets of %d regions, zero fill; seed %d", samples, steps, regions, hidden,
+                classes, count, lesionSize, seed);
+        found.run(spec.commandLine().getOut(), new org.cruxset.search.bench.ExternalSuite.Workload(file, batch,
+                masks(0, count), description), threads.threads());
+        return 0;
     }
 
     private static String fmtSets(double v) {
