@@ -108,6 +108,54 @@ class SparkLocalTest {
         assertTrue(!results(here.out()).isEmpty(), here.out());
     }
 
+    // Faults: a driver killed with SIGKILL mid-run resumes from the store like any run (the store's keys make the
+    // replayed sets cost no decoding), and ends where an uninterrupted one-machine run ends.
+    @Test
+    void aKilledDriverResumesFromTheStore() throws Exception {
+        String[] search = {"search", "--model", fixture.model.toString(), "--cohort", fixture.cohort.toString(),
+            "--strategy", "genetic", "--budget", "400", "--no-race", "--threads", "2"};
+        Path one = dir.resolve("resume-one");
+        Path spark = dir.resolve("resume-spark");
+        ClusterFixture.Run here = ClusterFixture.run(concat(search, "--out", one.toString())).requireSuccess();
+        List<String> cmd = new ArrayList<>(List.of(Path.of(System.getProperty("java.home"), "bin", "java").toString(),
+                "--add-modules", "jdk.incubator.vector"));
+        cmd.addAll(List.of(SparkBackend.OPENS.split(" ")));
+        cmd.addAll(List.of("-cp", System.getProperty("java.class.path"), "org.cruxset.search.cli.CruxsetCommand"));
+        cmd.addAll(List.of(concat(search, "--out", spark.toString(), "--spark", "local[2]")));
+        java.nio.file.Files.createDirectories(spark);
+        Process child = new ProcessBuilder(cmd).redirectErrorStream(true)
+                .redirectOutput(spark.resolve("child.log").toFile()).start();
+        Path db = spark.resolve("results.sqlite");
+        long seen = 0;
+        long deadline = System.nanoTime() + 180_000_000_000L;
+        while (System.nanoTime() < deadline && child.isAlive() && seen < 100) {
+            if (java.nio.file.Files.exists(db)) {
+                try (java.sql.Connection c = java.sql.DriverManager.getConnection("jdbc:sqlite:" + db);
+                     java.sql.ResultSet r = c.createStatement().executeQuery("SELECT COUNT(*) FROM evaluations")) {
+                    seen = r.next() ? r.getLong(1) : 0;
+                } catch (java.sql.SQLException busyOrNotYetCreated) {
+                    seen = 0;
+                }
+            }
+            Thread.sleep(10);
+        }
+        assertTrue(child.isAlive(), "the driver must still be running when killed (saw " + seen + " sets): "
+                + java.nio.file.Files.readString(spark.resolve("child.log")));
+        child.destroyForcibly();
+        assertTrue(child.waitFor(30, java.util.concurrent.TimeUnit.SECONDS));
+        ClusterFixture.Run resumed = ClusterFixture.run(concat(search, "--out", spark.toString(), "--spark",
+                "local[2]")).requireSuccess();
+        assertEquals(results(here.out()), results(resumed.out()));
+        assertEquals(SparkStandaloneTest.evaluations(one.resolve("results.sqlite")), SparkStandaloneTest.evaluations(db),
+                "the same sets, each stored once, with the same outcomes");
+    }
+
+    static String[] concat(String[] a, String... b) {
+        String[] out = java.util.Arrays.copyOf(a, a.length + b.length);
+        System.arraycopy(b, 0, out, a.length, b.length);
+        return out;
+    }
+
     /** The lines of a search's output that name its reported sets and their scores. */
     static List<String> results(String out) {
         List<String> lines = new ArrayList<>();

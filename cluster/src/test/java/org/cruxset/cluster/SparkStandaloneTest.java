@@ -103,7 +103,7 @@ class SparkStandaloneTest {
     }
 
     /** Every stored evaluation, keyed by set, part and mode; fails if any key is stored twice. */
-    private static Map<String, String> evaluations(Path store) throws Exception {
+    static Map<String, String> evaluations(Path store) throws Exception {
         Map<String, String> out = new TreeMap<>();
         try (Connection c = DriverManager.getConnection("jdbc:sqlite:" + store);
              Statement s = c.createStatement();

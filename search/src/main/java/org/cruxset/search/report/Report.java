@@ -373,30 +373,7 @@ public final class Report {
                 "sets charged (budget spent)", "smallest critical set found (regions)");
         c.getStyler().setXAxisMin(0.0); // the budget starts at 0 (and round ticks follow)
         int grid = 60;
-        int i = 0;
-        for (Map.Entry<String, List<StoreView.SearchRun>> e : byLabel.entrySet()) {
-            List<Double> xs = new ArrayList<>();
-            List<Double> ys = new ArrayList<>();
-            for (int g = 0; g <= grid; g++) {
-                double at = maxCharged * g / grid;
-                double[] b = new double[e.getValue().size()];
-                for (int r = 0; r < b.length; r++) {
-                    b[r] = bestAt(e.getValue().get(r).trace(), at);
-                }
-                Arrays.sort(b);
-                double m = ClusteredStats.quantile(b, 0.5);
-                if (Double.isFinite(m)) {
-                    xs.add(at);
-                    ys.add(m);
-                }
-            }
-            if (!xs.isEmpty()) {
-                XYSeries series = c.addSeries(e.getKey(), xs, ys);
-                Plots.look(series, i);
-                series.setXYSeriesRenderStyle(XYSeries.XYSeriesRenderStyle.Step);
-            }
-            i++;
-        }
+        medianSteps(c, byLabel, maxCharged, grid, (trace, at) -> bestAt(trace, at));
         if (!c.getSeriesMap().isEmpty()) {
             figure("anytime", "For each strategy, the median over its runs of the smallest critical set found once a "
                     + "given number of sets had been charged (a run charged for every set it asked for, whoever "
@@ -425,30 +402,8 @@ public final class Report {
         XYChart c = Plots.xy("Anytime: best accuracy at " + k + " regions against sets charged (median over seeds)",
                 "sets charged (budget spent)", "best search-part accuracy of a " + k + "-region lesion");
         c.getStyler().setXAxisMin(0.0);
-        int i = 0;
-        for (Map.Entry<String, List<StoreView.SearchRun>> e : byLabel.entrySet()) {
-            List<Double> xs = new ArrayList<>();
-            List<Double> ys = new ArrayList<>();
-            for (int g = 0; g <= grid; g++) {
-                double at = maxCharged * g / grid;
-                double[] b = new double[e.getValue().size()];
-                for (int r = 0; r < b.length; r++) {
-                    b[r] = accuracyAt(e.getValue().get(r).trace(), k, at);
-                }
-                Arrays.sort(b);
-                double m = ClusteredStats.quantile(b, 0.5);
-                if (Double.isFinite(m)) {
-                    xs.add(at);
-                    ys.add(m);
-                }
-            }
-            if (!xs.isEmpty()) {
-                XYSeries series = c.addSeries(e.getKey(), xs, ys);
-                Plots.look(series, i);
-                series.setXYSeriesRenderStyle(XYSeries.XYSeriesRenderStyle.Step);
-            }
-            i++;
-        }
+        int size = k;
+        medianSteps(c, byLabel, maxCharged, grid, (trace, at) -> accuracyAt(trace, size, at));
         if (c.getSeriesMap().isEmpty()) {
             return;
         }
@@ -471,6 +426,39 @@ public final class Report {
             }
         }
         return best;
+    }
+
+    /**
+     * One step series per strategy: at each of {@code grid} + 1 points of the budget, the median over its runs of
+     * {@code value(trace, charged)}, from the first point where that median is finite.
+     */
+    private static void medianSteps(XYChart c, Map<String, List<StoreView.SearchRun>> byLabel, double maxCharged,
+                                    int grid, java.util.function.ToDoubleBiFunction<List<StoreView.TracePoint>,
+                                    Double> value) {
+        int i = 0;
+        for (Map.Entry<String, List<StoreView.SearchRun>> e : byLabel.entrySet()) {
+            List<Double> xs = new ArrayList<>();
+            List<Double> ys = new ArrayList<>();
+            for (int g = 0; g <= grid; g++) {
+                double at = maxCharged * g / grid;
+                double[] b = new double[e.getValue().size()];
+                for (int r = 0; r < b.length; r++) {
+                    b[r] = value.applyAsDouble(e.getValue().get(r).trace(), at);
+                }
+                Arrays.sort(b);
+                double m = ClusteredStats.quantile(b, 0.5);
+                if (Double.isFinite(m)) {
+                    xs.add(at);
+                    ys.add(m);
+                }
+            }
+            if (!xs.isEmpty()) {
+                XYSeries series = c.addSeries(e.getKey(), xs, ys);
+                Plots.look(series, i);
+                series.setXYSeriesRenderStyle(XYSeries.XYSeriesRenderStyle.Step);
+            }
+            i++;
+        }
     }
 
     private static double bestAt(List<StoreView.TracePoint> trace, double charged) {
