@@ -33,6 +33,30 @@ class OwenValuesTest {
         assertEquals(0.0, owen[2], 1e-12);
     }
 
+    // Source: the worked example in the documentation of the R package GameTheoryAllocation (CRAN, version 1.0),
+    // function Owen_value, section Examples: the 3-player cost game c = (1, 1, 2, 1, 2, 2, 2) over the coalitions
+    // {1}, {2}, {3}, {1,2}, {1,3}, {2,3}, {1,2,3}, unions {1,2} and {3}: Owen value (0.25, 0.25, 1.5), Shapley value
+    // (1/3, 1/3, 4/3), as printed there. Values are linear in the game, so a cost game's are computed as any other.
+    @Test
+    void thePublishedThreePlayerExample() {
+        double[] c = {0, 1, 1, 1, 2, 2, 2, 2}; // by bit mask: {}, {1}, {2}, {1,2}, {3}, {1,3}, {2,3}, {1,2,3}
+        Game g = game(3, s -> {
+            int mask = 0;
+            for (int p : s.positions()) {
+                mask |= 1 << p;
+            }
+            return c[mask];
+        });
+        double[] owen = OwenValues.exact(g, new int[] {0, 0, 1}).values();
+        assertEquals(0.25, owen[0], 1e-12);
+        assertEquals(0.25, owen[1], 1e-12);
+        assertEquals(1.5, owen[2], 1e-12);
+        double[] shapley = ExactShapley.values(g).values();
+        assertEquals(1.0 / 3, shapley[0], 1e-12);
+        assertEquals(1.0 / 3, shapley[1], 1e-12);
+        assertEquals(4.0 / 3, shapley[2], 1e-12);
+    }
+
     // The quotient-game property: the Owen values of a union's members sum to the union's Shapley value in the game
     // played between unions.
     @Test
