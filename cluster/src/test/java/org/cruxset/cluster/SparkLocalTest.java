@@ -20,6 +20,7 @@ import org.cruxset.scoring.lesion.LesionMode;
 import org.cruxset.scoring.lesion.RegionSet;
 import org.cruxset.scoring.onnx.OnnxModels;
 import org.cruxset.scoring.onnx.OnnxOptions;
+import org.cruxset.search.cli.CruxsetCommand;
 import org.junit.jupiter.api.AfterAll;
 import org.junit.jupiter.api.BeforeAll;
 import org.junit.jupiter.api.Test;
@@ -97,10 +98,10 @@ class SparkLocalTest {
 
     @Test
     void aShortGrowAndPruneSearchFindsTheSameSets() {
-        ClusterFixture.Run here = ClusterFixture.run("search", "--model", fixture.model.toString(), "--cohort",
+        CruxsetCommand.Captured here = ClusterFixture.run("search", "--model", fixture.model.toString(), "--cohort",
                 fixture.cohort.toString(), "--strategy", "grow", "--budget", "150", "--threads", "2", "--out",
                 dir.resolve("one").toString()).requireSuccess();
-        ClusterFixture.Run there = ClusterFixture.run("search", "--model", fixture.model.toString(), "--cohort",
+        CruxsetCommand.Captured there = ClusterFixture.run("search", "--model", fixture.model.toString(), "--cohort",
                 fixture.cohort.toString(), "--strategy", "grow", "--budget", "150", "--threads", "2", "--out",
                 dir.resolve("spark").toString(), "--spark", "local[2]").requireSuccess();
         assertTrue(there.out().contains("passes decoded by Apache Spark"), there.out());
@@ -116,7 +117,7 @@ class SparkLocalTest {
             "--strategy", "genetic", "--budget", "400", "--no-race", "--threads", "2"};
         Path one = dir.resolve("resume-one");
         Path spark = dir.resolve("resume-spark");
-        ClusterFixture.Run here = ClusterFixture.run(concat(search, "--out", one.toString())).requireSuccess();
+        CruxsetCommand.Captured here = ClusterFixture.run(concat(search, "--out", one.toString())).requireSuccess();
         List<String> cmd = new ArrayList<>(List.of(Path.of(System.getProperty("java.home"), "bin", "java").toString(),
                 "--add-modules", "jdk.incubator.vector"));
         cmd.addAll(List.of(SparkBackend.OPENS.split(" ")));
@@ -143,7 +144,7 @@ class SparkLocalTest {
                 + java.nio.file.Files.readString(spark.resolve("child.log")));
         child.destroyForcibly();
         assertTrue(child.waitFor(30, java.util.concurrent.TimeUnit.SECONDS));
-        ClusterFixture.Run resumed = ClusterFixture.run(concat(search, "--out", spark.toString(), "--spark",
+        CruxsetCommand.Captured resumed = ClusterFixture.run(concat(search, "--out", spark.toString(), "--spark",
                 "local[2]")).requireSuccess();
         assertEquals(results(here.out()), results(resumed.out()));
         assertEquals(SparkStandaloneTest.evaluations(one.resolve("results.sqlite")), SparkStandaloneTest.evaluations(db),

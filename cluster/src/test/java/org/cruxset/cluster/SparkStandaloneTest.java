@@ -13,6 +13,7 @@ import java.util.Map;
 import java.util.TreeMap;
 import java.util.concurrent.atomic.AtomicLong;
 import org.cruxset.scoring.kernel.Kernels;
+import org.cruxset.search.cli.CruxsetCommand;
 import org.junit.jupiter.api.AfterAll;
 import org.junit.jupiter.api.BeforeAll;
 import org.junit.jupiter.api.Test;
@@ -49,7 +50,7 @@ class SparkStandaloneTest {
         assertTrue(Files.isDirectory(home.resolve("jars")), "the build assembles the Spark home: " + home);
         String[] search = {"search", "--model", fixture.model.toString(), "--cohort", fixture.cohort.toString(),
             "--strategy", "grow", "--budget", "600", "--threads", "2"};
-        ClusterFixture.Run here = ClusterFixture.run(concat(search, "--out", dir.resolve("one").toString()))
+        CruxsetCommand.Captured here = ClusterFixture.run(concat(search, "--out", dir.resolve("one").toString()))
                 .requireSuccess();
 
         try (StandaloneCluster cluster = StandaloneCluster.start(home, LOGS, 2, 1, "1g")) {
@@ -78,7 +79,7 @@ class SparkStandaloneTest {
                 }
             });
             killer.start();
-            ClusterFixture.Run there = ClusterFixture.run(concat(search, "--out", dir.resolve("cluster").toString(),
+            CruxsetCommand.Captured there = ClusterFixture.run(concat(search, "--out", dir.resolve("cluster").toString(),
                     "--spark", url)).requireSuccess();
             killer.join();
             conf.keySet().forEach(System::clearProperty);

@@ -5,6 +5,7 @@ import static org.junit.jupiter.api.Assertions.assertTrue;
 
 import java.nio.file.Path;
 import org.cruxset.scoring.simulate.TruthFile;
+import org.cruxset.search.cli.CruxsetCommand;
 import org.junit.jupiter.api.Test;
 import org.junit.jupiter.api.io.TempDir;
 
@@ -27,7 +28,7 @@ class AuditCommandTest {
         int minimum = TruthFile.decoderMinimumSets(DemoData.TRUTH).get(0).size();
         Cli.run(args(out, "search", "--strategy", "ranked", "--budget", "300")).requireSuccess();
         Cli.run(args(out, "search", "--strategy", "genetic", "--budget", "800", "--seed", "2")).requireSuccess();
-        Cli.Run a = Cli.run(args(out, "audit", "--ranking", out.resolve("ranking-single-lesion.tsv").toString(),
+        CruxsetCommand.Captured a = Cli.run(args(out, "audit", "--ranking", out.resolve("ranking-single-lesion.tsv").toString(),
                 "--random", "30", "--max-k", "5")).requireSuccess();
         String o = a.out();
         assertTrue(o.contains("Caution: a virtual lesion of a decoder describes the decoder"), o);
@@ -40,7 +41,7 @@ class AuditCommandTest {
         assertTrue(prefix > minimum, "on the demo the single-lesion prefix is larger than the minimum: " + o);
         assertTrue(o.contains("Verdict: NOT MINIMAL. A search found a critical set of " + minimum + " regions"), o);
         assertTrue(o.contains("permutation p"), o);
-        Cli.Run bad = Cli.run(args(out, "audit"));
+        CruxsetCommand.Captured bad = Cli.run(args(out, "audit"));
         assertEquals(2, bad.exit(), bad.err());
         assertTrue(bad.err().contains("--ranking"), bad.err());
     }

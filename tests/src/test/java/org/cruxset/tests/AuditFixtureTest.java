@@ -21,6 +21,7 @@ import org.cruxset.scoring.decoder.Preprocessing;
 import org.cruxset.scoring.gru.GruLayer;
 import org.cruxset.scoring.gru.GruNetwork;
 import org.cruxset.scoring.onnx.OnnxGruWriter;
+import org.cruxset.search.cli.CruxsetCommand;
 import org.junit.jupiter.api.BeforeAll;
 import org.junit.jupiter.api.Test;
 import org.junit.jupiter.api.io.TempDir;
@@ -153,10 +154,10 @@ class AuditFixtureTest {
         List<String> scan = Files.readAllLines(out.resolve("scan-regions.tsv"));
         assertTrue(scan.get(1).startsWith("offset\t"), String.join("\n", scan));
 
-        Cli.Run search = Cli.run(args(out, "search", "--strategy", "exhaustive", "--budget", "300")).requireSuccess();
+        CruxsetCommand.Captured search = Cli.run(args(out, "search", "--strategy", "exhaustive", "--budget", "300")).requireSuccess();
         assertTrue(search.out().contains("twin-a") && search.out().contains("twin-b"), search.out());
 
-        Cli.Run audit = Cli.run(args(out, "audit", "--ranking", out.resolve("ranking-saliency-regions.tsv").toString(),
+        CruxsetCommand.Captured audit = Cli.run(args(out, "audit", "--ranking", out.resolve("ranking-saliency-regions.tsv").toString(),
                 "--ranking", out.resolve("ranking-scan-regions.tsv").toString(), "--random", "30", "--max-k", "4"))
                 .requireSuccess();
         String o = audit.out();

@@ -5,6 +5,7 @@ import static org.junit.jupiter.api.Assertions.assertTrue;
 
 import java.util.regex.Matcher;
 import java.util.regex.Pattern;
+import org.cruxset.search.cli.CruxsetCommand;
 import org.junit.jupiter.params.ParameterizedTest;
 import org.junit.jupiter.params.provider.ValueSource;
 
@@ -13,7 +14,7 @@ class BenchCommandTest {
     @ParameterizedTest
     @ValueSource(strings = {"gru", "lstm"})
     void theEngineSuitePrintsRatesWorkReferencePeakAndMemory(String cell) {
-        Cli.Run r = Cli.run("bench", "--cell", cell, "--samples", "12", "--steps", "6", "--regions", "20", "--hidden",
+        CruxsetCommand.Captured r = Cli.run("bench", "--cell", cell, "--samples", "12", "--steps", "6", "--regions", "20", "--hidden",
                 "16", "--classes", "3", "--lesion-size", "3", "--sets", "8", "--threads", "2");
         assertEquals(0, r.exit(), r.err());
         String out = r.out();

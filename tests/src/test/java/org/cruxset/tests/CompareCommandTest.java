@@ -6,6 +6,7 @@ import static org.junit.jupiter.api.Assertions.assertTrue;
 import java.nio.file.Path;
 import java.util.ArrayList;
 import java.util.List;
+import org.cruxset.search.cli.CruxsetCommand;
 import org.junit.jupiter.api.Test;
 import org.junit.jupiter.api.io.TempDir;
 
@@ -41,7 +42,7 @@ class CompareCommandTest {
 
     @Test
     void comparesStrategiesOnEqualBudgetsAndResumes(@TempDir Path out) {
-        Cli.Run first = Cli.run(args(out)).requireSuccess();
+        CruxsetCommand.Captured first = Cli.run(args(out)).requireSuccess();
         String o = first.out();
         assertTrue(o.contains("Caution: a virtual lesion of a decoder describes the decoder"), o);
         List<String> table = rows(o);
@@ -61,9 +62,9 @@ class CompareCommandTest {
         for (String line : anytime.subList(1, anytime.size())) {
             assertTrue(Integer.parseInt(line.split("\t")[3]) >= 4, line);
         }
-        Cli.Run again = Cli.run(args(out)).requireSuccess();
+        CruxsetCommand.Captured again = Cli.run(args(out)).requireSuccess();
         assertEquals(table, rows(again.out()), "a rerun replays every run from the store to the same results");
-        Cli.Run bad = Cli.run("compare", "--model", DemoData.MODEL.toString(), "--cohort", DemoData.COHORT.toString(),
+        CruxsetCommand.Captured bad = Cli.run("compare", "--model", DemoData.MODEL.toString(), "--cohort", DemoData.COHORT.toString(),
                 "--out", out.toString(), "--strategies", "grow~screen", "--budget", "10");
         assertEquals(2, bad.exit(), bad.err());
         assertTrue(bad.err().contains("~screen works with genetic and local"), bad.err());

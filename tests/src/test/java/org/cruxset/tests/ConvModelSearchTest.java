@@ -19,6 +19,7 @@ import org.cruxset.scoring.lesion.LesionSpec;
 import org.cruxset.scoring.lesion.RegionSet;
 import org.cruxset.scoring.onnx.OnnxModels;
 import org.cruxset.scoring.onnx.OnnxOptions;
+import org.cruxset.search.cli.CruxsetCommand;
 import org.junit.jupiter.api.Test;
 import org.junit.jupiter.api.io.TempDir;
 
@@ -67,7 +68,7 @@ class ConvModelSearchTest {
 
     @Test
     void aSearchRunsEndToEndAndFindsACriticalSet(@TempDir Path out) {
-        Cli.Run r = Cli.run("search", "--model", MODEL.toString(), "--cohort", COHORT.toString(), "--engine",
+        CruxsetCommand.Captured r = Cli.run("search", "--model", MODEL.toString(), "--cohort", COHORT.toString(), "--engine",
                 "onnxruntime", "--strategy", "grow", "--budget", "1000", "--out", out.toString(), "--threads", "2")
                 .requireSuccess();
         assertTrue(r.out().contains("whole cohort"), r.out());

@@ -7,6 +7,7 @@ import java.nio.file.Files;
 import java.nio.file.Path;
 import java.util.Collections;
 import java.util.List;
+import org.cruxset.search.cli.CruxsetCommand;
 import org.cruxset.search.rank.Ranking;
 import org.cruxset.search.rank.RankingFile;
 import org.junit.jupiter.api.Test;
@@ -27,7 +28,7 @@ class CurveCommandTest {
         Path ranking = networkRanking(dir, List.of("network:ember", "network:fjord", "network:cinder", "network:delta",
                 "network:glade", "network:arbor", "network:beacon"));
         Path out = dir.resolve("out");
-        Cli.Run r = Cli.run("curve", "--model", DemoData.MODEL.toString(), "--cohort", DemoData.COHORT.toString(),
+        CruxsetCommand.Captured r = Cli.run("curve", "--model", DemoData.MODEL.toString(), "--cohort", DemoData.COHORT.toString(),
                 "--ranking", ranking.toString(), "--null", "30", "--out", out.toString()).requireSuccess();
         assertTrue(r.out().startsWith("Caution: a virtual lesion"), r.out());
         assertTrue(r.out().contains("Cost: 7 grid points x (deletion + insertion + 30 random orders)"), r.out());
@@ -50,15 +51,15 @@ class CurveCommandTest {
     void theBudgetCutsTheBandAndBadGridsAreNamed(@TempDir Path dir) {
         Path ranking = networkRanking(dir, List.of("network:ember", "network:fjord", "network:cinder", "network:delta",
                 "network:glade", "network:arbor", "network:beacon"));
-        Cli.Run cut = Cli.run("curve", "--model", DemoData.MODEL.toString(), "--cohort", DemoData.COHORT.toString(),
+        CruxsetCommand.Captured cut = Cli.run("curve", "--model", DemoData.MODEL.toString(), "--cohort", DemoData.COHORT.toString(),
                 "--ranking", ranking.toString(), "--k", "1:4", "--budget", "40", "--out", dir.resolve("a").toString())
                 .requireSuccess();
         assertTrue(cut.out().contains("(--null 20 cut to 6 to fit --budget 40)"), cut.out());
-        Cli.Run small = Cli.run("curve", "--model", DemoData.MODEL.toString(), "--cohort", DemoData.COHORT.toString(),
+        CruxsetCommand.Captured small = Cli.run("curve", "--model", DemoData.MODEL.toString(), "--cohort", DemoData.COHORT.toString(),
                 "--ranking", ranking.toString(), "--budget", "5", "--out", dir.resolve("b").toString());
         assertEquals(2, small.exit());
         assertTrue(small.err().contains("--budget 5 does not cover the curve itself"), small.err());
-        Cli.Run bad = Cli.run("curve", "--model", DemoData.MODEL.toString(), "--cohort", DemoData.COHORT.toString(),
+        CruxsetCommand.Captured bad = Cli.run("curve", "--model", DemoData.MODEL.toString(), "--cohort", DemoData.COHORT.toString(),
                 "--ranking", ranking.toString(), "--k", "5:2", "--out", dir.resolve("c").toString());
         assertEquals(2, bad.exit());
         assertTrue(bad.err().contains("--k: grid '5:2'"), bad.err());

@@ -11,6 +11,7 @@ import org.cruxset.scoring.cohort.Cohort;
 import org.cruxset.scoring.cohort.CohortFiles;
 import org.cruxset.scoring.simulate.CohortSummary;
 import org.cruxset.scoring.simulate.TruthFile;
+import org.cruxset.search.cli.CruxsetCommand;
 import org.junit.jupiter.api.Test;
 import org.junit.jupiter.api.io.TempDir;
 
@@ -18,7 +19,7 @@ import org.junit.jupiter.api.io.TempDir;
 class DemoTest {
     @Test
     void demoConfirmsTheSmallestCriticalSetAndTheControlSurvives(@TempDir Path out) {
-        Cli.Run r = Cli.run("demo", "--demo", DemoData.DIR.toString(), "--out", out.toString(), "--threads", "2")
+        CruxsetCommand.Captured r = Cli.run("demo", "--demo", DemoData.DIR.toString(), "--out", out.toString(), "--threads", "2")
                 .requireSuccess();
         assertTrue(r.out().contains("not causal brain function"), r.out());
         String first = String.join(",", TruthFile.decoderMinimumSets(DemoData.TRUTH).get(0));
@@ -69,7 +70,7 @@ class DemoTest {
         for (String f : List.of("demo.yaml", "model.onnx", "truth.json")) {
             Files.copy(DemoData.DIR.resolve(f), demo.resolve(f));
         }
-        Cli.Run r = Cli.run("demo", "--demo", demo.toString(), "--out", dir.resolve("out").toString(), "--threads", "2",
+        CruxsetCommand.Captured r = Cli.run("demo", "--demo", demo.toString(), "--out", dir.resolve("out").toString(), "--threads", "2",
                 "--criterion", "upper:0.1", "--quick").requireSuccess();
         assertTrue(r.out().contains("Generated the demo cohort from"), r.out());
         assertTrue(Files.isRegularFile(demo.resolve("cohort").resolve("samples.npy")));

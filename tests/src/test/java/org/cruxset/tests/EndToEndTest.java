@@ -20,6 +20,7 @@ import org.cruxset.scoring.lesion.RegionSet;
 import org.cruxset.scoring.onnx.OnnxModels;
 import org.cruxset.scoring.onnx.OnnxOptions;
 import org.cruxset.scoring.simulate.TruthFile;
+import org.cruxset.search.cli.CruxsetCommand;
 import org.junit.jupiter.api.BeforeAll;
 import org.junit.jupiter.api.Test;
 import org.junit.jupiter.api.io.TempDir;
@@ -33,7 +34,7 @@ class EndToEndTest {
 
     static Path cohortDir;
     static Path model;
-    static Cli.Run train;
+    static CruxsetCommand.Captured train;
 
     @BeforeAll
     static void simulateAndTrain() {
@@ -145,7 +146,7 @@ class EndToEndTest {
         }
         assertFalse(dispensable.isEmpty(), "the CI cohort's redundant group has individually dispensable members");
         Path out = dir.resolve("scan");
-        Cli.Run r = Cli.run("scan", "--model", model.toString(), "--cohort", cohortDir.toString(), "--out",
+        CruxsetCommand.Captured r = Cli.run("scan", "--model", model.toString(), "--cohort", cohortDir.toString(), "--out",
                 out.toString(), "--threads", "2").requireSuccess();
         java.util.Map<String, java.util.Map<String, String>> rows = ScanCommandTest.readScan(out.resolve("scan-regions.tsv"));
         java.util.Map<String, String> pos = rows.get(positive);
@@ -182,7 +183,7 @@ class EndToEndTest {
             assertTrue(Math.abs(v - e) <= 2.5 * hw, net + ": sampled " + v + " ± " + hw + ", exact " + e);
         }
         Path regionsDir = dir.resolve("shapley-regions");
-        Cli.Run r = Cli.run("shapley", "--model", model.toString(), "--cohort", cohortDir.toString(), "--players",
+        CruxsetCommand.Captured r = Cli.run("shapley", "--model", model.toString(), "--cohort", cohortDir.toString(), "--players",
                 "regions", "--budget", "6000", "--out", regionsDir.toString(), "--threads", "2").requireSuccess();
         java.util.Map<String, String[]> regions = shapleyRows(regionsDir.resolve("shapley-regions.tsv"));
         java.util.Set<String> members = new java.util.HashSet<>();
@@ -221,7 +222,7 @@ class EndToEndTest {
     @org.junit.jupiter.params.provider.ValueSource(strings = {"grow", "genetic", "local"})
     void searchMatchesTheDecodersOwnTruth(String strategy) {
         int truth = TruthFile.decoderMinimumSets(cohortDir.resolve(TruthFile.NAME)).get(0).size();
-        Cli.Run r = Cli.run("search", "--model", model.toString(), "--cohort", cohortDir.toString(), "--strategy",
+        CruxsetCommand.Captured r = Cli.run("search", "--model", model.toString(), "--cohort", cohortDir.toString(), "--strategy",
                 strategy, "--budget", "3000", "--out", dir.resolve("search-" + strategy).toString(), "--threads", "2")
                 .requireSuccess();
         int best = SearchCommandTest.bestSize(r.out());
@@ -236,7 +237,7 @@ class EndToEndTest {
 
     @Test
     void infoReportsTheEngineAndHeldOutAccuracy() {
-        Cli.Run info = Cli.run("info", "--model", model.toString(), "--cohort", cohortDir.toString()).requireSuccess();
+        CruxsetCommand.Captured info = Cli.run("info", "--model", model.toString(), "--cohort", cohortDir.toString()).requireSuccess();
         assertTrue(info.out().contains("engine: native (canonical GRU form"), info.out());
         assertTrue(info.out().contains("Held-out test split"), info.out());
         assertTrue(info.out().contains("95% Wilson"), info.out());
@@ -244,7 +245,7 @@ class EndToEndTest {
 
     @Test
     void badCohortPathIsAClearErrorWithItsOwnExitCode() {
-        Cli.Run r = Cli.run("info", "--model", model.toString(), "--cohort", dir.resolve("nowhere").toString());
+        CruxsetCommand.Captured r = Cli.run("info", "--model", model.toString(), "--cohort", dir.resolve("nowhere").toString());
         assertEquals(2, r.exit(), r.err());
         assertTrue(r.err().contains("nowhere"), r.err());
     }

@@ -12,6 +12,7 @@ import org.cruxset.scoring.cohort.CohortFiles;
 import org.cruxset.scoring.cohort.Sample;
 import org.cruxset.scoring.cohort.Split;
 import org.cruxset.scoring.testing.RandomModels;
+import org.cruxset.search.cli.CruxsetCommand;
 import org.junit.jupiter.api.Test;
 import org.junit.jupiter.api.io.TempDir;
 
@@ -32,15 +33,15 @@ class ForeignModelTest {
     @Test
     void theWholeCohortIsHeldOutAndMeanNeedsAReference(@TempDir Path dir) {
         Path c = cohort(dir.resolve("cohort"), 1);
-        Cli.Run info = Cli.run("info", "--model", MODEL.toString(), "--cohort", c.toString()).requireSuccess();
+        CruxsetCommand.Captured info = Cli.run("info", "--model", MODEL.toString(), "--cohort", c.toString()).requireSuccess();
         assertTrue(info.out().contains("whole cohort (30 samples; the model was trained elsewhere)"), info.out());
         assertTrue(info.out().contains("unnamed: atlas index order"), info.out());
-        Cli.Run refused = Cli.run("score", "--model", MODEL.toString(), "--cohort", c.toString(), "--lesion", "r01",
+        CruxsetCommand.Captured refused = Cli.run("score", "--model", MODEL.toString(), "--cohort", c.toString(), "--lesion", "r01",
                 "--mode", "mean", "--out", dir.resolve("out").toString());
         assertEquals(2, refused.exit(), refused.err());
         assertTrue(refused.err().contains("--reference COHORT"), refused.err());
         Path ref = cohort(dir.resolve("reference"), 2);
-        Cli.Run ok = Cli.run("score", "--model", MODEL.toString(), "--cohort", c.toString(), "--lesion", "r01,network:net1",
+        CruxsetCommand.Captured ok = Cli.run("score", "--model", MODEL.toString(), "--cohort", c.toString(), "--lesion", "r01,network:net1",
                 "--mode", "mean", "--reference", ref.toString(), "--out", dir.resolve("out").toString()).requireSuccess();
         assertTrue(ok.out().contains("whole cohort"), ok.out());
         assertTrue(ok.out().contains("r01,network:net1"), ok.out());

@@ -4,6 +4,7 @@ import static org.junit.jupiter.api.Assertions.assertEquals;
 import static org.junit.jupiter.api.Assertions.assertFalse;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
+import org.cruxset.search.cli.CruxsetCommand;
 import org.junit.jupiter.params.ParameterizedTest;
 import org.junit.jupiter.params.provider.ValueSource;
 
@@ -34,7 +35,7 @@ class HelpTest {
     void helpRendersWithoutWarnings(String command) {
         String warnings = systemErrDuring(command, "--help");
         assertFalse(warnings.contains("WARN"), warnings);
-        Cli.Run r = Cli.run(command, "--help");
+        CruxsetCommand.Captured r = Cli.run(command, "--help");
         assertEquals(0, r.exit(), r.err());
         assertFalse(r.err().contains("WARN") || r.out().contains("WARN"), r.err() + r.out());
         assertTrue(r.out().startsWith("Usage: cruxset " + command), r.out());

@@ -13,6 +13,7 @@ import java.sql.Statement;
 import java.util.ArrayList;
 import java.util.List;
 import java.util.SplittableRandom;
+import org.cruxset.search.cli.CruxsetCommand;
 import org.junit.jupiter.api.Test;
 import org.junit.jupiter.api.io.TempDir;
 
@@ -40,9 +41,9 @@ class KillResumeTest {
         long afterKill = Killed.count(db, "SELECT COUNT(*) FROM evaluations");
         assertTrue(afterKill >= seen && afterKill < 2 * (SETS + 1), "rows after the kill (both parts): " + afterKill);
 
-        Cli.Run resumed = Cli.run(args(killed).toArray(String[]::new)).requireSuccess();
+        CruxsetCommand.Captured resumed = Cli.run(args(killed).toArray(String[]::new)).requireSuccess();
         assertTrue(resumed.out().contains("already paid by this run"), resumed.out());
-        Cli.Run clean = Cli.run(args(dir.resolve("clean")).toArray(String[]::new)).requireSuccess();
+        CruxsetCommand.Captured clean = Cli.run(args(dir.resolve("clean")).toArray(String[]::new)).requireSuccess();
 
         assertEquals(tableOf(clean.out()), tableOf(resumed.out()), "resumed results equal an uninterrupted run's");
         long distinct = Killed.count(db, "SELECT COUNT(DISTINCT data_hash || set_hex) FROM evaluations");

@@ -15,6 +15,7 @@ import java.util.regex.Pattern;
 import javax.imageio.ImageIO;
 import javax.xml.parsers.DocumentBuilderFactory;
 import org.cruxset.scoring.testing.ExternalTools;
+import org.cruxset.search.cli.CruxsetCommand;
 import org.cruxset.search.report.Report;
 import org.w3c.dom.Document;
 
@@ -64,7 +65,7 @@ final class ReportChecks {
                 img.header.set_xyzt_units('mm')
                 nib.save(img, sys.argv[2])
                 """, cohort.resolve("regions.tsv").toString(), atlas.toString());
-        Cli.Run r = Cli.run("report", "--out", out.toString(), "--cohort", cohort.toString(), "--atlas-image",
+        CruxsetCommand.Captured r = Cli.run("report", "--out", out.toString(), "--cohort", cohort.toString(), "--atlas-image",
                 atlas.toString()).requireSuccess();
         assertTrue(r.out().contains(Report.CAUTION), r.out());
         Path dir = out.resolve("report");

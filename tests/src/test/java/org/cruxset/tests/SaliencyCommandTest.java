@@ -9,6 +9,7 @@ import java.util.List;
 import java.util.Set;
 import java.util.TreeSet;
 import org.cruxset.scoring.simulate.TruthFile;
+import org.cruxset.search.cli.CruxsetCommand;
 import org.junit.jupiter.api.Test;
 import org.junit.jupiter.api.io.TempDir;
 
@@ -19,7 +20,7 @@ class SaliencyCommandTest {
     @Test
     void theGradientRankingsDeletionCurveCollapsesEarlyAndBelowTheBand(@TempDir Path dir) throws Exception {
         Path out = dir.resolve("out");
-        Cli.Run s = Cli.run("saliency", "--model", DemoData.MODEL.toString(), "--cohort", DemoData.COHORT.toString(),
+        CruxsetCommand.Captured s = Cli.run("saliency", "--model", DemoData.MODEL.toString(), "--cohort", DemoData.COHORT.toString(),
                 "--map-class", "canal-walk", "--out", out.toString()).requireSuccess();
         List<String> map = Files.readAllLines(out.resolve("saliency-map-class-canal-walk.tsv"));
         assertEquals(101, map.size(), "one row per region after the header");
@@ -27,7 +28,7 @@ class SaliencyCommandTest {
         assertTrue(s.out().startsWith("Caution: a virtual lesion"), s.out());
         assertTrue(s.out().contains("Method: gradient of the true-class score (pre-softmax)"), s.out());
         Path ranking = out.resolve("ranking-saliency-regions.tsv");
-        Cli.Run c = Cli.run("curve", "--model", DemoData.MODEL.toString(), "--cohort", DemoData.COHORT.toString(),
+        CruxsetCommand.Captured c = Cli.run("curve", "--model", DemoData.MODEL.toString(), "--cohort", DemoData.COHORT.toString(),
                 "--ranking", ranking.toString(), "--k", "1:10", "--null", "20", "--out", out.toString())
                 .requireSuccess();
         int minimum = TruthFile.decoderMinimumSets(DemoData.TRUTH).get(0).size();
@@ -54,23 +55,23 @@ class SaliencyCommandTest {
 
     @Test
     void aModelRunByOnnxRuntimeGetsFiniteDifferencesAndSaysSo(@TempDir Path dir) {
-        Cli.Run s = Cli.run("saliency", "--model", DemoData.MODEL.toString(), "--cohort", DemoData.COHORT.toString(),
+        CruxsetCommand.Captured s = Cli.run("saliency", "--model", DemoData.MODEL.toString(), "--cohort", DemoData.COHORT.toString(),
                 "--engine", "onnxruntime", "--method", "integrated", "--out", dir.toString()).requireSuccess();
         assertTrue(s.out().contains("the model is run by ONNX Runtime, which gives no gradients: integrated was asked "
                 + "for, finite differences by region are computed instead"), s.out());
-        Cli.Run map = Cli.run("saliency", "--model", DemoData.MODEL.toString(), "--cohort", DemoData.COHORT.toString(),
+        CruxsetCommand.Captured map = Cli.run("saliency", "--model", DemoData.MODEL.toString(), "--cohort", DemoData.COHORT.toString(),
                 "--engine", "onnxruntime", "--map-class", "canal-walk", "--out", dir.toString()).requireSuccess();
         assertTrue(map.out().contains("No time map: finite differences by region give one value per region"), map.out());
     }
 
     @Test
     void badOptionsAreNamed(@TempDir Path dir) {
-        Cli.Run m = Cli.run("saliency", "--model", DemoData.MODEL.toString(), "--cohort", DemoData.COHORT.toString(),
+        CruxsetCommand.Captured m = Cli.run("saliency", "--model", DemoData.MODEL.toString(), "--cohort", DemoData.COHORT.toString(),
                 "--method", "occlusion", "--out", dir.toString());
         assertEquals(2, m.exit());
         assertTrue(m.err().contains("--method: the method must be gradient, times-input, integrated, smooth or "
                 + "differences, found 'occlusion'"), m.err());
-        Cli.Run k = Cli.run("saliency", "--model", DemoData.MODEL.toString(), "--cohort", DemoData.COHORT.toString(),
+        CruxsetCommand.Captured k = Cli.run("saliency", "--model", DemoData.MODEL.toString(), "--cohort", DemoData.COHORT.toString(),
                 "--map-class", "harbour-run", "--out", dir.toString());
         assertEquals(2, k.exit());
         assertTrue(k.err().contains("--map-class: no class 'harbour-run'"), k.err());

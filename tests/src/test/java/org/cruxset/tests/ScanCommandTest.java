@@ -10,6 +10,7 @@ import java.util.LinkedHashMap;
 import java.util.List;
 import java.util.Map;
 import java.util.Set;
+import org.cruxset.search.cli.CruxsetCommand;
 import org.cruxset.search.rank.Ranking;
 import org.cruxset.search.rank.RankingFile;
 import org.junit.jupiter.api.Test;
@@ -40,7 +41,7 @@ class ScanCommandTest {
     @Test
     void networksHoldingThePlantedRegionsRankAboveTheOthers(@TempDir Path dir) throws IOException {
         Path out = dir.resolve("scan");
-        Cli.Run r = Cli.run("scan", "--model", DemoData.MODEL.toString(), "--cohort", DemoData.COHORT.toString(),
+        CruxsetCommand.Captured r = Cli.run("scan", "--model", DemoData.MODEL.toString(), "--cohort", DemoData.COHORT.toString(),
                 "--units", "networks", "--out", out.toString()).requireSuccess();
         assertTrue(r.out().startsWith("Caution: a virtual lesion"), r.out());
         Map<String, Map<String, String>> rows = readScan(out.resolve("scan-networks.tsv"));
@@ -64,11 +65,11 @@ class ScanCommandTest {
         assertTrue(ranking.complete());
         assertEquals("search", ranking.part());
         // A rerun, and a scan with other options on the same store, are served from the store (7 networks + intact).
-        Cli.Run again = Cli.run("scan", "--model", DemoData.MODEL.toString(), "--cohort", DemoData.COHORT.toString(),
+        CruxsetCommand.Captured again = Cli.run("scan", "--model", DemoData.MODEL.toString(), "--cohort", DemoData.COHORT.toString(),
                 "--units", "networks", "--out", out.toString()).requireSuccess();
         assertTrue(again.out().contains("Decoder calls: 0 set(s) decoded, 0 reused from the store, 8 already scored"),
                 again.out());
-        Cli.Run other = Cli.run("scan", "--model", DemoData.MODEL.toString(), "--cohort", DemoData.COHORT.toString(),
+        CruxsetCommand.Captured other = Cli.run("scan", "--model", DemoData.MODEL.toString(), "--cohort", DemoData.COHORT.toString(),
                 "--units", "networks", "--correction", "bh", "--out", out.toString()).requireSuccess();
         assertTrue(other.out().contains("Decoder calls: 0 set(s) decoded, 8 reused from the store"), other.out());
     }
@@ -76,7 +77,7 @@ class ScanCommandTest {
     @Test
     void hierarchicalScansRegionsOnlyInsideSignificantNetworks(@TempDir Path dir) throws IOException {
         Path out = dir.resolve("scan");
-        Cli.Run r = Cli.run("scan", "--model", DemoData.MODEL.toString(), "--cohort", DemoData.COHORT.toString(),
+        CruxsetCommand.Captured r = Cli.run("scan", "--model", DemoData.MODEL.toString(), "--cohort", DemoData.COHORT.toString(),
                 "--units", "hierarchical", "--correction", "bh", "--bootstrap", "200", "--out", out.toString())
                 .requireSuccess();
         Map<String, Map<String, String>> nets = readScan(out.resolve("scan-networks.tsv"));
@@ -91,15 +92,15 @@ class ScanCommandTest {
 
     @Test
     void badOptionsAreNamed(@TempDir Path dir) {
-        Cli.Run units = Cli.run("scan", "--model", DemoData.MODEL.toString(), "--cohort", DemoData.COHORT.toString(),
+        CruxsetCommand.Captured units = Cli.run("scan", "--model", DemoData.MODEL.toString(), "--cohort", DemoData.COHORT.toString(),
                 "--units", "lobes", "--out", dir.toString());
         assertEquals(2, units.exit());
         assertTrue(units.err().contains("--units must be regions, networks or hierarchical, found 'lobes'"), units.err());
-        Cli.Run within = Cli.run("scan", "--model", DemoData.MODEL.toString(), "--cohort", DemoData.COHORT.toString(),
+        CruxsetCommand.Captured within = Cli.run("scan", "--model", DemoData.MODEL.toString(), "--cohort", DemoData.COHORT.toString(),
                 "--within", "ember,harbour", "--out", dir.toString());
         assertEquals(2, within.exit());
         assertTrue(within.err().contains("no network 'harbour'"), within.err());
-        Cli.Run test = Cli.run("scan", "--model", DemoData.MODEL.toString(), "--cohort", DemoData.COHORT.toString(),
+        CruxsetCommand.Captured test = Cli.run("scan", "--model", DemoData.MODEL.toString(), "--cohort", DemoData.COHORT.toString(),
                 "--test", "wald", "--out", dir.toString());
         assertEquals(2, test.exit());
         assertTrue(test.err().contains("exact or clustered"), test.err());

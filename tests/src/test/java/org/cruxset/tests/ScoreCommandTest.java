@@ -11,6 +11,7 @@ import java.util.List;
 import java.util.regex.Matcher;
 import java.util.regex.Pattern;
 import org.cruxset.scoring.simulate.TruthFile;
+import org.cruxset.search.cli.CruxsetCommand;
 import org.junit.jupiter.api.Test;
 import org.junit.jupiter.api.io.TempDir;
 
@@ -43,7 +44,7 @@ class ScoreCommandTest {
     void theTruthsSmallestCriticalSetIsConfirmedAndAsManyDecoysAreNotCritical(@TempDir Path out) {
         List<String> critical = TruthFile.decoderMinimumSets(DemoData.TRUTH).get(0);
         List<String> decoys = TruthFile.decoys(DemoData.TRUTH).subList(0, critical.size());
-        Cli.Run r = Cli.run("score", "--model", MODEL, "--cohort", COHORT, "--lesion", joined(critical),
+        CruxsetCommand.Captured r = Cli.run("score", "--model", MODEL, "--cohort", COHORT, "--lesion", joined(critical),
                 "--lesion", joined(decoys), "--out", out.toString(), "--threads", "2").requireSuccess();
         for (String part : List.of("Search", "Confirmation")) {
             assertTrue(rowOf(r.out(), part, joined(critical)).endsWith("CRITICAL"), part + ":\n" + r.out());
@@ -57,13 +58,13 @@ class ScoreCommandTest {
 
     @Test
     void withoutAConfirmationPartTheOutputSaysScoresAreOptimistic(@TempDir Path out) {
-        Cli.Run r = Cli.run("score", "--model", MODEL, "--cohort", COHORT, "--lesion", "ember-09", "--confirm", "0",
+        CruxsetCommand.Captured r = Cli.run("score", "--model", MODEL, "--cohort", COHORT, "--lesion", "ember-09", "--confirm", "0",
                 "--criterion", "upper:0.1", "--bootstrap", "0", "--out", out.toString(), "--threads", "2").requireSuccess();
         assertTrue(r.out().contains("No confirmation part (--confirm 0)") && r.out().contains("optimistic"), r.out());
         assertTrue(r.out().contains("Search part: n = 432 samples from 36 subjects"), r.out());
         assertFalse(r.out().contains("Confirmation part"), r.out());
         assertTrue(r.out().contains("upper end of the 95% Wilson interval of accuracy at or below chance + 0.1"), r.out());
-        Cli.Run bad = Cli.run("score", "--model", MODEL, "--cohort", COHORT, "--lesion", "ember-09", "--confirm", "1",
+        CruxsetCommand.Captured bad = Cli.run("score", "--model", MODEL, "--cohort", COHORT, "--lesion", "ember-09", "--confirm", "1",
                 "--out", out.toString());
         assertEquals(2, bad.exit(), bad.err());
         assertTrue(bad.err().contains("--confirm must be at least 0 and below 1, found 1.0"), bad.err());
@@ -73,16 +74,16 @@ class ScoreCommandTest {
     void aSecondIdenticalRunMakesNoDecoderCalls(@TempDir Path out) {
         String[] args = {"score", "--model", MODEL, "--cohort", COHORT, "--lesion", "network:ember",
             "--lesion", "arbor-01,arbor-02", "--mode", "noise", "--out", out.toString(), "--threads", "2"};
-        Cli.Run first = Cli.run(args).requireSuccess();
+        CruxsetCommand.Captured first = Cli.run(args).requireSuccess();
         assertTrue(first.out().contains("Decoder calls: 3 set(s) decoded, 0 reused from the store, 0 already paid"), first.out());
         assertTrue(first.out().contains("Confirmation part (not charged): 3 set(s) decoded"), first.out());
         assertTrue(first.out().contains("3 scored set(s) charged to this run"), first.out());
-        Cli.Run second = Cli.run(args).requireSuccess();
+        CruxsetCommand.Captured second = Cli.run(args).requireSuccess();
         assertTrue(second.out().contains("Decoder calls: 0 set(s) decoded, 0 reused from the store, 3 already paid"), second.out());
         assertTrue(second.out().contains("Confirmation part (not charged): 0 set(s) decoded, 0 reused from the store, "
                 + "3 already paid"), second.out());
         // another command asking for a stored set reuses it: charged to its own budget, no decoder time
-        Cli.Run other = Cli.run("score", "--model", MODEL, "--cohort", COHORT, "--lesion", "arbor-01,arbor-02",
+        CruxsetCommand.Captured other = Cli.run("score", "--model", MODEL, "--cohort", COHORT, "--lesion", "arbor-01,arbor-02",
                 "--mode", "noise", "--out", out.toString(), "--threads", "2").requireSuccess();
         assertTrue(other.out().contains("Decoder calls: 0 set(s) decoded, 2 reused from the store, 0 already paid"), other.out());
         assertEquals(table(first.out()), table(second.out()), "a replay gives the same table");
@@ -100,15 +101,15 @@ class ScoreCommandTest {
 
     @Test
     void emptyAllAndUnknownLesionsAreRefusedWithAReason(@TempDir Path out) {
-        Cli.Run all = Cli.run("score", "--model", MODEL, "--cohort", COHORT, "--lesion",
+        CruxsetCommand.Captured all = Cli.run("score", "--model", MODEL, "--cohort", COHORT, "--lesion",
                 "network:arbor,network:beacon,network:cinder,network:delta,network:ember,network:fjord,network:glade",
                 "--out", out.toString());
         assertEquals(2, all.exit(), all.err());
         assertTrue(all.err().contains("lesions all 100 regions"), all.err());
-        Cli.Run unknown = Cli.run("score", "--model", MODEL, "--cohort", COHORT, "--lesion", "ember-9", "--out", out.toString());
+        CruxsetCommand.Captured unknown = Cli.run("score", "--model", MODEL, "--cohort", COHORT, "--lesion", "ember-9", "--out", out.toString());
         assertEquals(2, unknown.exit(), unknown.err());
         assertTrue(unknown.err().contains("unknown region 'ember-9'") && unknown.err().contains("'ember-09'"), unknown.err());
-        Cli.Run mode = Cli.run("score", "--model", MODEL, "--cohort", COHORT, "--lesion", "ember-09", "--mode", "blank",
+        CruxsetCommand.Captured mode = Cli.run("score", "--model", MODEL, "--cohort", COHORT, "--lesion", "ember-09", "--mode", "blank",
                 "--out", out.toString());
         assertEquals(2, mode.exit(), mode.err());
         assertTrue(mode.err().contains("zero, mean, noise, swap, phase"), mode.err());

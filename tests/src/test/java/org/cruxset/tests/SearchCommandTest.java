@@ -15,6 +15,7 @@ import java.util.List;
 import java.util.regex.Matcher;
 import java.util.regex.Pattern;
 import org.cruxset.scoring.simulate.TruthFile;
+import org.cruxset.search.cli.CruxsetCommand;
 import org.junit.jupiter.api.Test;
 import org.junit.jupiter.api.io.TempDir;
 
@@ -55,7 +56,7 @@ class SearchCommandTest {
     @Test
     void growThenPruneMatchesTheDecodersOwnTruthAndIsConfirmed(@TempDir Path out) {
         int truth = TruthFile.decoderMinimumSets(DemoData.TRUTH).get(0).size();
-        Cli.Run r = Cli.run(args(out, "--strategy", "grow", "--budget", "3000", "--seed", "7").toArray(String[]::new))
+        CruxsetCommand.Captured r = Cli.run(args(out, "--strategy", "grow", "--budget", "3000", "--seed", "7").toArray(String[]::new))
                 .requireSuccess();
         int best = bestSize(r.out());
         assertTrue(best > 0 && best <= truth, "best " + best + ", truth " + truth + ":\n" + r.out());
@@ -64,25 +65,25 @@ class SearchCommandTest {
         assertTrue(first.matches(".*CRITICAL.*(CRITICAL|not confirmed).*"), "the confirmation verdict is shown: " + first);
         assertTrue(r.out().contains("Stopped: finished"), r.out());
         assertTrue(r.out().contains("Front (best set found at each size where no smaller set scored as low"), r.out());
-        Cli.Run export = Cli.run("export", "--out", out.toString()).requireSuccess();
+        CruxsetCommand.Captured export = Cli.run("export", "--out", out.toString()).requireSuccess();
         assertTrue(export.out().contains("Wrote TSV views"), export.out());
         assertTrue(Files.exists(out.resolve("export").resolve("search_trace.tsv")));
     }
 
     @Test
     void rankedReportsTheSmallestCriticalPrefixAndBadOptionsAreClearErrors(@TempDir Path out) {
-        Cli.Run r = Cli.run(args(out, "--strategy", "ranked", "--budget", "1000").toArray(String[]::new)).requireSuccess();
+        CruxsetCommand.Captured r = Cli.run(args(out, "--strategy", "ranked", "--budget", "1000").toArray(String[]::new)).requireSuccess();
         assertTrue(r.out().contains("Ranking: smallest critical prefix"), r.out());
         Path file = out.resolve("ranking-single-lesion.tsv");
         assertTrue(r.out().contains("Single-lesion ranking written to " + file), r.out());
-        Cli.Run again = Cli.run(args(out.resolve("again"), "--strategy", "ranked", "--ranking", file.toString(),
+        CruxsetCommand.Captured again = Cli.run(args(out.resolve("again"), "--strategy", "ranked", "--ranking", file.toString(),
                 "--budget", "1000").toArray(String[]::new)).requireSuccess();
         assertEquals(bestSize(r.out()), bestSize(again.out()), "the written ranking gives the same result:\n"
                 + again.out());
-        Cli.Run bad = Cli.run(args(out, "--strategy", "annealing").toArray(String[]::new));
+        CruxsetCommand.Captured bad = Cli.run(args(out, "--strategy", "annealing").toArray(String[]::new));
         assertEquals(2, bad.exit(), bad.err());
         assertTrue(bad.err().contains("--strategy must be grow, ranked, prune, exhaustive, random, genetic, local or surrogate"), bad.err());
-        Cli.Run budget = Cli.run(args(out, "--budget", "0").toArray(String[]::new));
+        CruxsetCommand.Captured budget = Cli.run(args(out, "--budget", "0").toArray(String[]::new));
         assertEquals(2, budget.exit(), budget.err());
         assertTrue(budget.err().contains("--budget must be at least 1"), budget.err());
     }
@@ -91,7 +92,7 @@ class SearchCommandTest {
     void geneticTakesItsSettingsFromAYamlConfigAndFindsTheTruthsSize(@TempDir Path out) throws Exception {
         Path cfg = out.resolve("search.yaml");
         Files.writeString(cfg, "genetic:\n  population: 40\n  patience: 30\n");
-        Cli.Run r = Cli.run(args(out.resolve("run"), "--strategy", "genetic", "--config", cfg.toString(), "--budget",
+        CruxsetCommand.Captured r = Cli.run(args(out.resolve("run"), "--strategy", "genetic", "--config", cfg.toString(), "--budget",
                 "4000", "--seed", "2").toArray(String[]::new)).requireSuccess();
         assertTrue(r.out().contains("population=40") && r.out().contains("patience=30"), r.out());
         int truth = TruthFile.decoderMinimumSets(DemoData.TRUTH).get(0).size();
@@ -101,7 +102,7 @@ class SearchCommandTest {
         assertTrue(first.matches(".*CRITICAL.*(CRITICAL|not confirmed).*irreducible"), first);
         assertTrue(r.out().contains("Front hypervolume"), r.out());
         Files.writeString(cfg, "genetic:\n  populace: 40\n");
-        Cli.Run bad = Cli.run(args(out.resolve("bad"), "--strategy", "genetic", "--config", cfg.toString())
+        CruxsetCommand.Captured bad = Cli.run(args(out.resolve("bad"), "--strategy", "genetic", "--config", cfg.toString())
                 .toArray(String[]::new));
         assertEquals(2, bad.exit(), bad.err());
         assertTrue(bad.err().contains(cfg.toString()) && bad.err().contains("populace"), bad.err());
@@ -109,7 +110,7 @@ class SearchCommandTest {
 
     @Test
     void aBudgetTooSmallStopsWithWhatWasFoundAndSaysSo(@TempDir Path out) {
-        Cli.Run r = Cli.run(args(out, "--strategy", "grow", "--budget", "150").toArray(String[]::new)).requireSuccess();
+        CruxsetCommand.Captured r = Cli.run(args(out, "--strategy", "grow", "--budget", "150").toArray(String[]::new)).requireSuccess();
         assertTrue(r.out().contains("Stopped: budget (the budget of 150 scored sets is spent)"), r.out());
         assertTrue(r.out().contains("Scored sets charged: 150 of 150"), r.out());
         assertTrue(r.out().contains("No critical set was found"), r.out());
@@ -141,9 +142,9 @@ class SearchCommandTest {
         Killed.runAndKill(dir, args(killed, more), db,
                 "SELECT (SELECT COUNT(*) FROM run_evaluations) + (SELECT COUNT(*) FROM run_partials)", 160);
 
-        Cli.Run resumed = Cli.run(args(killed, more).toArray(String[]::new)).requireSuccess();
+        CruxsetCommand.Captured resumed = Cli.run(args(killed, more).toArray(String[]::new)).requireSuccess();
         assertTrue(resumed.out().contains("Resuming an earlier run of this command"), resumed.out());
-        Cli.Run clean = Cli.run(args(dir.resolve("clean"), more).toArray(String[]::new)).requireSuccess();
+        CruxsetCommand.Captured clean = Cli.run(args(dir.resolve("clean"), more).toArray(String[]::new)).requireSuccess();
         assertEquals(results(clean.out()), results(resumed.out()), "the same final sets and front");
         Path cleanDb = dir.resolve("clean").resolve("results.sqlite");
         assertEquals(trace(cleanDb), trace(db), "the same anytime trace");
@@ -166,14 +167,14 @@ class SearchCommandTest {
     @Test
     void surrogateAndScreenedSearchesFindTheDemosMinimumAndAccountForTheirFits(@TempDir Path out) throws Exception {
         int minimum = TruthFile.decoderMinimumSets(DemoData.TRUTH).get(0).size();
-        Cli.Run s = Cli.run(args(out.resolve("s"), "--strategy", "surrogate", "--budget", "600", "--seed", "3")
+        CruxsetCommand.Captured s = Cli.run(args(out.resolve("s"), "--strategy", "surrogate", "--budget", "600", "--seed", "3")
                 .toArray(String[]::new)).requireSuccess();
         assertEquals(minimum, bestSize(s.out()), s.out());
         assertTrue(s.out().contains("Surrogate search space: "), s.out());
         assertTrue(s.out().matches("(?s).*Surrogate model: \\d+ fits in .*"), s.out());
         assertTrue(s.out().contains("held-out R² median"), s.out());
         assertTrue(s.out().contains("Accounting: decoder "), s.out());
-        Cli.Run g = Cli.run(args(out.resolve("g"), "--strategy", "genetic", "--screen", "--budget", "1500", "--seed",
+        CruxsetCommand.Captured g = Cli.run(args(out.resolve("g"), "--strategy", "genetic", "--screen", "--budget", "1500", "--seed",
                 "3").toArray(String[]::new)).requireSuccess();
         assertEquals(minimum, bestSize(g.out()), g.out());
         Matcher m = Pattern.compile("(\\d+) candidates, (\\d+) skipped without a decoder call").matcher(g.out());
@@ -193,7 +194,7 @@ class SearchCommandTest {
         List<String> skips = Files.readAllLines(out.resolve("g").resolve("export").resolve("search_skips.tsv"));
         assertEquals(skipped + 1, skips.size(), "the export holds the skip log with its header");
         assertTrue(skips.get(0).startsWith("run_id\tposition\tset_hex"), skips.get(0));
-        Cli.Run bad = Cli.run(args(out.resolve("b"), "--strategy", "grow", "--screen").toArray(String[]::new));
+        CruxsetCommand.Captured bad = Cli.run(args(out.resolve("b"), "--strategy", "grow", "--screen").toArray(String[]::new));
         assertEquals(2, bad.exit(), bad.err());
         assertTrue(bad.err().contains("--screen works with --strategy genetic or local"), bad.err());
     }

@@ -13,6 +13,7 @@ import java.util.Set;
 import java.util.regex.Matcher;
 import java.util.regex.Pattern;
 import org.cruxset.scoring.simulate.TruthFile;
+import org.cruxset.search.cli.CruxsetCommand;
 import org.junit.jupiter.api.Test;
 import org.junit.jupiter.api.io.TempDir;
 
@@ -32,7 +33,7 @@ class ShapleyCommandTest {
     // (ember, fjord) interact positively while the redundant group's (cinder, delta) interact negatively.
     @Test
     void exactNetworkValuesAndInteractions(@TempDir Path dir) throws Exception {
-        Cli.Run r = Cli.run("shapley", "--model", DemoData.MODEL.toString(), "--cohort", DemoData.COHORT.toString(),
+        CruxsetCommand.Captured r = Cli.run("shapley", "--model", DemoData.MODEL.toString(), "--cohort", DemoData.COHORT.toString(),
                 "--out", dir.toString()).requireSuccess();
         assertTrue(r.out().startsWith("Caution: a virtual lesion"), r.out());
         assertTrue(r.out().contains("Estimator: exact enumeration of all 128 coalitions."), r.out());
@@ -66,7 +67,7 @@ class ShapleyCommandTest {
     // and its interval excludes zero.
     @Test
     void minimalSetMembersOutrankDecoys(@TempDir Path dir) throws Exception {
-        Cli.Run r = Cli.run("shapley", "--model", DemoData.MODEL.toString(), "--cohort", DemoData.COHORT.toString(),
+        CruxsetCommand.Captured r = Cli.run("shapley", "--model", DemoData.MODEL.toString(), "--cohort", DemoData.COHORT.toString(),
                 "--players", "regions", "--budget", "4000", "--out", dir.toString()).requireSuccess();
         assertTrue(r.out().contains("Stopped: budget spent."), r.out());
         List<String> pairs = Files.readAllLines(dir.resolve("shapley-regions-pairs.tsv"));
@@ -89,7 +90,7 @@ class ShapleyCommandTest {
     // between networks; on the demo the designed regions lead, as with plain regions.
     @Test
     void nestedPlayersGetOwenValues(@TempDir Path dir) throws Exception {
-        Cli.Run r = Cli.run("shapley", "--model", DemoData.MODEL.toString(), "--cohort", DemoData.COHORT.toString(),
+        CruxsetCommand.Captured r = Cli.run("shapley", "--model", DemoData.MODEL.toString(), "--cohort", DemoData.COHORT.toString(),
                 "--players", "nested", "--budget", "1500", "--interactions", "0", "--out", dir.toString())
                 .requireSuccess();
         assertTrue(r.out().contains("order (networks kept together) sampling"), r.out());
@@ -106,7 +107,7 @@ class ShapleyCommandTest {
     // the full game; the designed regions never take it (their marginals differ between the two contexts).
     @Test
     void theScreenIsLabelledAndChecked(@TempDir Path dir) throws Exception {
-        Cli.Run r = Cli.run("shapley", "--model", DemoData.MODEL.toString(), "--cohort", DemoData.COHORT.toString(),
+        CruxsetCommand.Captured r = Cli.run("shapley", "--model", DemoData.MODEL.toString(), "--cohort", DemoData.COHORT.toString(),
                 "--players", "regions", "--screen", "0.002", "--budget", "2500", "--interactions", "0", "--out",
                 dir.toString()).requireSuccess();
         String line = r.out().lines().filter(l -> l.startsWith("Screen (202 scored sets):")).findFirst()
@@ -120,15 +121,15 @@ class ShapleyCommandTest {
 
     @Test
     void badOptionsAreNamed(@TempDir Path dir) {
-        Cli.Run exact = Cli.run("shapley", "--model", DemoData.MODEL.toString(), "--cohort", DemoData.COHORT.toString(),
+        CruxsetCommand.Captured exact = Cli.run("shapley", "--model", DemoData.MODEL.toString(), "--cohort", DemoData.COHORT.toString(),
                 "--players", "regions", "--estimator", "exact", "--out", dir.toString());
         assertEquals(2, exact.exit());
         assertTrue(exact.err().contains("--estimator exact needs 2^100"), exact.err());
-        Cli.Run strat = Cli.run("shapley", "--model", DemoData.MODEL.toString(), "--cohort", DemoData.COHORT.toString(),
+        CruxsetCommand.Captured strat = Cli.run("shapley", "--model", DemoData.MODEL.toString(), "--cohort", DemoData.COHORT.toString(),
                 "--players", "regions", "--estimator", "stratified", "--out", dir.toString());
         assertEquals(2, strat.exit());
         assertTrue(strat.err().contains("at most 20 of them (100 here)"), strat.err());
-        Cli.Run small = Cli.run("shapley", "--model", DemoData.MODEL.toString(), "--cohort", DemoData.COHORT.toString(),
+        CruxsetCommand.Captured small = Cli.run("shapley", "--model", DemoData.MODEL.toString(), "--cohort", DemoData.COHORT.toString(),
                 "--players", "regions", "--budget", "300", "--out", dir.toString());
         assertEquals(2, small.exit());
         assertTrue(small.err().contains("does not cover two draws of 202 scored sets"), small.err());

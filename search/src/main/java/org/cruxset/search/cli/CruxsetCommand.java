@@ -47,6 +47,28 @@ public final class CruxsetCommand implements Callable<Integer> {
         return cl;
     }
 
+    /** One in-process run of the command line: its exit code and what it printed on standard output and error. */
+    public record Captured(int exit, String out, String err) {
+        /** This run, or an AssertionError with both outputs when it did not exit 0 (for tests). */
+        public Captured requireSuccess() {
+            if (exit != 0) {
+                throw new AssertionError("cruxset exited " + exit + "\nstdout:\n" + out + "\nstderr:\n" + err);
+            }
+            return this;
+        }
+    }
+
+    /** Runs {@code cruxset args} in this JVM with its outputs captured (tests, and commands that call others). */
+    public static Captured capture(String... args) {
+        CommandLine cl = commandLine();
+        java.io.StringWriter out = new java.io.StringWriter();
+        java.io.StringWriter err = new java.io.StringWriter();
+        cl.setOut(new PrintWriter(out, true));
+        cl.setErr(new PrintWriter(err, true));
+        int code = cl.execute(args);
+        return new Captured(code, out.toString(), err.toString());
+    }
+
     private static boolean isBadInput(Exception ex) {
         return ex instanceof IllegalArgumentException
                 || ex instanceof org.cruxset.scoring.cohort.CohortFormatException

@@ -3,8 +3,6 @@ package org.cruxset.search.cli;
 import static org.junit.jupiter.api.Assertions.assertEquals;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
-import java.io.PrintWriter;
-import java.io.StringWriter;
 import java.nio.file.Files;
 import java.nio.file.Path;
 import java.util.List;
@@ -31,15 +29,11 @@ class SparkOptionTest {
         Path model = dir.resolve("m.onnx");
         Files.write(model, OnnxGruWriter.write(net, atlas.names(), classes, Preprocessing.NONE, Map.of()));
         CohortFiles.write(new Cohort(atlas, RandomModels.samples(rng, 24, 6, 5, 8, classes)), dir.resolve("c"), false);
-        StringWriter out = new StringWriter();
-        StringWriter err = new StringWriter();
-        picocli.CommandLine cl = CruxsetCommand.commandLine();
-        cl.setOut(new PrintWriter(out, true));
-        cl.setErr(new PrintWriter(err, true));
-        int code = cl.execute("score", "--model", model.toString(), "--cohort", dir.resolve("c").toString(), "--lesion",
-                atlas.names().get(0), "--out", dir.resolve("out").toString(), "--spark", "local[2]");
-        assertEquals(2, code, out + "\n" + err);
-        assertTrue(err.toString().contains(ScoringOptions.NO_CLUSTER), err.toString());
-        assertTrue(err.toString().contains("./cruxset-cluster"), err.toString());
+        CruxsetCommand.Captured r = CruxsetCommand.capture("score", "--model", model.toString(), "--cohort",
+                dir.resolve("c").toString(), "--lesion", atlas.names().get(0), "--out", dir.resolve("out").toString(),
+                "--spark", "local[2]");
+        assertEquals(2, r.exit(), r.out() + "\n" + r.err());
+        assertTrue(r.err().contains(ScoringOptions.NO_CLUSTER), r.err());
+        assertTrue(r.err().contains("./cruxset-cluster"), r.err());
     }
 }
