@@ -37,7 +37,7 @@ import picocli.CommandLine.Spec;
                 + "compare of every strategy on equal budgets, the deletion curve of the saliency ranking, the audit "
                 + "of three rankings, and the report (about half a minute on 2 cores). The demo cohort is generated "
                 + "from DIR/demo.yaml on first use (a few seconds)."})
-public final class DemoCommand implements Callable<Integer> {
+public final class DemoCommand implements Callable<Integer>, ModelSource {
     /** The demo's settings, decoder and committed truth inside the demo folder. */
     static final String CONFIG = "demo.yaml";
     static final String MODEL = "model.onnx";
@@ -60,6 +60,12 @@ public final class DemoCommand implements Callable<Integer> {
     @Option(names = "--quick", description = "Only the first part (the truth check and a short search), without the "
             + "tour of scan, saliency, Shapley values, compare, audit and report.")
     boolean quick;
+
+    /** The demo's decoder as a cluster's executors need it (--spark). */
+    @Override
+    public org.cruxset.scoring.decoder.DecoderSource source(Decoder opened) {
+        return OnnxModels.source(demo.resolve(MODEL), OnnxOptions.defaults(), opened, 1);
+    }
 
     @Override
     public Integer call() {

@@ -9,7 +9,7 @@ import picocli.CommandLine.Mixin;
 import picocli.CommandLine.Option;
 
 /** Options shared by commands that load a decoder. */
-public final class ModelOptions {
+public final class ModelOptions implements ModelSource {
     @Option(names = "--model", required = true, paramLabel = "FILE", description = "Trained decoder in ONNX format.")
     Path model;
 
@@ -36,8 +36,8 @@ public final class ModelOptions {
         return threads.threads();
     }
 
-    /** What a cluster's executors need to open {@code opened} (this model) exactly as here. */
-    org.cruxset.scoring.decoder.DecoderSource source(Decoder opened) {
+    @Override
+    public org.cruxset.scoring.decoder.DecoderSource source(Decoder opened) {
         return OnnxModels.source(model, options(), opened, 1);
     }
 

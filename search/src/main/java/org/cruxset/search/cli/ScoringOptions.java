@@ -89,9 +89,9 @@ public final class ScoringOptions {
         if (spark == null) {
             return null;
         }
-        ModelOptions model = null;
+        ModelSource model = mixee.userObject() instanceof ModelSource own ? own : null;
         for (picocli.CommandLine.Model.CommandSpec m : mixee.mixins().values()) {
-            if (m.userObject() instanceof ModelOptions o) {
+            if (m.userObject() instanceof ModelSource o) {
                 model = o;
             }
         }
@@ -100,7 +100,7 @@ public final class ScoringOptions {
         }
         org.cruxset.scoring.decoder.DecodeBackend backend = org.cruxset.scoring.decoder.DecodeBackend.open("spark",
                 spark, NO_CLUSTER);
-        ModelOptions m = model;
+        ModelSource m = model;
         return local -> backend.distribute(local, m.source(local));
     }
 
