@@ -5,7 +5,6 @@ import java.util.Iterator;
 import java.util.LinkedHashMap;
 import java.util.List;
 import java.util.Map;
-import java.util.concurrent.ConcurrentHashMap;
 import org.apache.spark.SparkEnv;
 import org.apache.spark.api.java.function.FlatMapFunction;
 import org.apache.spark.broadcast.Broadcast;
@@ -24,20 +23,37 @@ import org.cruxset.scoring.onnx.OnnxModels;
  * broadcasts, so a run pays for them once.
  */
 final class DecodeTask implements FlatMapFunction<Iterator<SparkDecoder.Item>, SparkDecoder.Result> {
-    private static final Map<Long, Decoder> DECODERS = new ConcurrentHashMap<>();
-    private static final Map<Long, Decoder.Bound> BOUND = new LinkedHashMap<>(16, 0.75f, true) {
+    // Keyed by ids the driver draws at random (not broadcast ids, which start again in every Spark context), least
+    // recently used first; an evicted decoder is closed.
+    private static final Map<String, Decoder> DECODERS = new LinkedHashMap<>(8, 0.75f, true) {
         @Override
-        protected boolean removeEldestEntry(Map.Entry<Long, Decoder.Bound> eldest) {
+        protected boolean removeEldestEntry(Map.Entry<String, Decoder> eldest) {
+            if (size() > 4) {
+                BOUND.keySet().removeIf(k -> k.startsWith(eldest.getKey() + "/"));
+                eldest.getValue().close();
+                return true;
+            }
+            return false;
+        }
+    };
+    private static final Map<String, Decoder.Bound> BOUND = new LinkedHashMap<>(16, 0.75f, true) {
+        @Override
+        protected boolean removeEldestEntry(Map.Entry<String, Decoder.Bound> eldest) {
             return size() > 32;
         }
     };
 
+    private final String decoderId;
     private final Broadcast<DecoderSource> source;
+    private final String samplesId;
     private final Broadcast<SparkDecoder.Samples> samples;
     private final Broadcast<float[][]> values;
 
-    DecodeTask(Broadcast<DecoderSource> source, Broadcast<SparkDecoder.Samples> samples, Broadcast<float[][]> values) {
+    DecodeTask(String decoderId, Broadcast<DecoderSource> source, String samplesId,
+               Broadcast<SparkDecoder.Samples> samples, Broadcast<float[][]> values) {
+        this.decoderId = decoderId;
         this.source = source;
+        this.samplesId = samplesId;
         this.samples = samples;
         this.values = values;
     }
@@ -67,13 +83,18 @@ final class DecodeTask implements FlatMapFunction<Iterator<SparkDecoder.Item>, S
     }
 
     private Decoder.Bound bound() {
-        Decoder d = DECODERS.computeIfAbsent(source.id(), k -> OnnxModels.open(source.value()));
+        String key = decoderId + "/" + samplesId;
         synchronized (BOUND) {
-            Decoder.Bound b = BOUND.get(samples.id());
+            Decoder.Bound b = BOUND.get(key);
             if (b == null) {
+                Decoder d = DECODERS.get(decoderId);
+                if (d == null) {
+                    d = OnnxModels.open(source.value());
+                    DECODERS.put(decoderId, d);
+                }
                 InputBatch batch = samples.value().batch();
                 b = d.bind(batch);
-                BOUND.put(samples.id(), b);
+                BOUND.put(key, b);
             }
             return b;
         }

@@ -25,6 +25,8 @@ final class SparkDecoder implements Decoder {
     private final Decoder local;
     private final Broadcast<DecoderSource> source;
     private final ModelCard card;
+    /** Names this decoder in executors' caches (unique across Spark contexts, unlike broadcast ids). */
+    private final String id = java.util.UUID.randomUUID().toString();
 
     SparkDecoder(SparkBackend backend, Decoder local, Broadcast<DecoderSource> source) {
         this.backend = backend;
@@ -68,6 +70,7 @@ final class SparkDecoder implements Decoder {
 
     private final class SparkBound implements Bound {
         private final InputBatch batch;
+        private final String samplesId = java.util.UUID.randomUUID().toString();
         private final Broadcast<Samples> samples;
         private final Map<LesionFill, Broadcast<float[][]>> fills = new IdentityHashMap<>();
 
@@ -95,7 +98,7 @@ final class SparkDecoder implements Decoder {
                 List<Item> items = e.getValue();
                 int slices = backend.slices(items.size());
                 List<Result> results = backend.context().parallelize(items, slices)
-                        .mapPartitions(new DecodeTask(source, samples, values)).collect();
+                        .mapPartitions(new DecodeTask(id, source, samplesId, samples, values)).collect();
                 for (Result r : results) {
                     out[r.index()] = r.probabilities();
                     backend.saw(r.executor(), r.kernels());
