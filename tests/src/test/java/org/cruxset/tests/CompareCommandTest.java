@@ -57,6 +57,13 @@ class CompareCommandTest {
         List<String> perRun = readLines(out.resolve("compare-runs.tsv"));
         assertEquals(5, perRun.size(), "a header and four runs: " + perRun);
         assertTrue(perRun.get(0).startsWith("strategy\tseed\tbest_size"), perRun.get(0));
+        List<String> reportedSets = readLines(out.resolve("compare-sets.tsv"));
+        assertTrue(reportedSets.get(0).startsWith("strategy\tseed\tsize\tregions\tsearch_accuracy"), reportedSets.get(0));
+        assertTrue(reportedSets.size() >= 5, "every run reports at least one set: " + reportedSets);
+        for (String line : reportedSets.subList(1, reportedSets.size())) {
+            String[] f = line.split("\t");
+            assertTrue(!f[6].equals("NA") && !f[7].equals("NA"), "a confirmation score for every reported set: " + line);
+        }
         List<String> anytime = readLines(out.resolve("compare-anytime.tsv"));
         assertTrue(anytime.size() >= 5, "every run's curve reaches its best size: " + anytime);
         for (String line : anytime.subList(1, anytime.size())) {

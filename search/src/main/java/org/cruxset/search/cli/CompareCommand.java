@@ -73,6 +73,12 @@ public final class CompareCommand implements Callable<Integer> {
             + "command line win.")
     Path config;
 
+    /** Every reported set of every run, with both parts' scores. */
+    static final String SETS_TSV = "compare-sets.tsv";
+
+    /** Rows of {@link #SETS_TSV}, filled as runs finish. */
+    private final List<String> setRows = new ArrayList<>();
+
     /** The hypervolume's objectives and reference point, in words (set with the first run's session). */
     private String hypervolumeNote;
 
@@ -156,6 +162,16 @@ public final class CompareCommand implements Callable<Integer> {
                                 || anytime.get(anytime.size() - 1)[1] != r.bestSize())) {
                             anytime.add(new double[] {r.chargedAtBest(), r.bestSize()});
                         }
+                        for (SearchRun.Reported x : r.reported()) {
+                            SetScore q = x.search();
+                            SetScore cq = x.confirmation();
+                            setRows.add(String.join("\t", s.name(), Long.toString(seed),
+                                    Integer.toString(x.set().size()), SearchCommand.names(session, x.set()),
+                                    TextFiles.num(q.accuracy()), Boolean.toString(x.searchCritical()),
+                                    cq == null ? "NA" : TextFiles.num(cq.accuracy()),
+                                    x.confirmationCritical() == null ? "NA" : x.confirmationCritical().toString(),
+                                    x.certificate() == null ? "none" : "irreducible"));
+                        }
                         outcomes.add(new Outcome(s.name(), seed, r.bestSize(), first[0], r.chargedAtBest(),
                                 r.charged(), hv, r.elapsedSeconds(), session.scorer().decodedSamples(),
                                 session.scorer().decodeSeconds(), session.search().inputs().size(),
@@ -169,8 +185,16 @@ public final class CompareCommand implements Callable<Integer> {
         pw.println(intactLine);
         print(pw, specs, outcomes);
         writeTsv(scoring.out().resolve("compare-runs.tsv"), scoring.out().resolve("compare-anytime.tsv"), outcomes);
-        pw.printf("%nPer run: %s; anytime curves (sets charged -> best critical size): %s.%n",
-                scoring.out().resolve("compare-runs.tsv"), scoring.out().resolve("compare-anytime.tsv"));
+        TextFiles.write(scoring.out().resolve(SETS_TSV), w -> {
+            w.write("strategy\tseed\tsize\tregions\tsearch_accuracy\tsearch_critical\tconfirmation_accuracy\t"
+                    + "confirmation_critical\tcertificate\n");
+            for (String row : setRows) {
+                w.write(row + "\n");
+            }
+        });
+        pw.printf("%nPer run: %s; anytime curves (sets charged -> best critical size): %s; every reported set with its "
+                + "search and confirmation scores: %s.%n", scoring.out().resolve("compare-runs.tsv"),
+                scoring.out().resolve("compare-anytime.tsv"), scoring.out().resolve(SETS_TSV));
         pw.printf("Results: %s (every run's sets, traces, fronts and certificates; cruxset export --out %s)%n",
                 scoring.out().resolve(ScoringSession.STORE_FILE), scoring.out());
         return 0;
