@@ -22,15 +22,14 @@ import org.cruxset.scoring.decoder.ModelCard;
  */
 final class SparkDecoder implements Decoder {
     private final SparkBackend backend;
-    private final Decoder local;
     private final Broadcast<DecoderSource> source;
     private final ModelCard card;
     /** Names this decoder in executors' caches (unique across Spark contexts, unlike broadcast ids). */
     private final String id = java.util.UUID.randomUUID().toString();
+    private final List<SparkBound> bounds = new ArrayList<>();
 
     SparkDecoder(SparkBackend backend, Decoder local, Broadcast<DecoderSource> source) {
         this.backend = backend;
-        this.local = local;
         this.source = source;
         ModelCard c = local.card();
         this.card = c.withEngine(c.engine(), "passes decoded by " + backend.describe() + ", engine " + c.engine()
@@ -50,7 +49,11 @@ final class SparkDecoder implements Decoder {
 
     @Override
     public Bound bind(InputBatch batch) {
-        return new SparkBound(batch);
+        SparkBound b = new SparkBound(batch);
+        synchronized (bounds) {
+            bounds.add(b);
+        }
+        return b;
     }
 
     /** A batch's samples as broadcast: regions, each sample's time-major values and length. */
@@ -136,13 +139,16 @@ final class SparkDecoder implements Decoder {
         }
     }
 
+    /** Drops this decoder's broadcasts from the executors (the model, and every bound batch and fill). */
     @Override
     public void close() {
+        synchronized (bounds) {
+            for (SparkBound b : bounds) {
+                b.samples.unpersist();
+                b.fills.values().forEach(Broadcast::unpersist);
+            }
+            bounds.clear();
+        }
         source.unpersist();
-    }
-
-    /** The local decoder this one mirrors. */
-    Decoder local() {
-        return local;
     }
 }

@@ -136,8 +136,8 @@ public final class ScoringSession implements AutoCloseable {
 
     private Part part(String name, ModelInputs in, ReferenceStats ref, Budget budget, double cost, List<String> names) {
         LesionFill fill = LesionFills.of(settings.mode(), settings.modeSeed(), ref, in.batch(), in.sampleIds());
-        LesionScorer scorer = new LesionScorer(scoringDecoder, in, settings.mode(), settings.modeSeed(), fill, store, run, budget,
-                cost, settings.threads(), names::get);
+        LesionScorer scorer = new LesionScorer(scoringDecoder, in, settings.mode(), settings.modeSeed(), fill, store,
+                run, budget, cost, settings.threads(), names::get);
         LesionScorer.Scored intact = scorer.score(RegionSet.empty(in.batch().regions()));
         return new Part(name, in, scorer, intact, settings.criterion());
     }
@@ -255,6 +255,9 @@ public final class ScoringSession implements AutoCloseable {
         if (store != null) {
             store.finish(run);
             store.close();
+        }
+        if (scoringDecoder != decoder) {
+            scoringDecoder.close(); // the backend's twin (its broadcasts); the caller's decoder stays open
         }
     }
 }
