@@ -145,18 +145,23 @@ public final class StrategyTests {
     }
 
     /**
-     * The type-7 median, except that "none" ({@link #NONE}, or a difference with it) is not interpolated with a size:
-     * the nearer order statistic is taken.
+     * A type-7 quantile of best critical sizes, except that "none" (infinite, {@link #NONE}, or a difference with it)
+     * is not interpolated with a size: the nearer order statistic is taken. Compare's and the report's summaries and
+     * the tests' medians use it.
      */
-    static double median(double[] v) {
+    public static double sizeQuantile(double[] v, double q) {
         double[] s = v.clone();
         Arrays.sort(s);
-        double h = (s.length - 1) * 0.5;
+        double h = (s.length - 1) * q;
         int lo = (int) Math.floor(h);
         int hi = Math.min(s.length - 1, lo + 1);
         if (Math.abs(s[lo]) >= NONE / 2 || Math.abs(s[hi]) >= NONE / 2) {
             return h - lo < 0.5 ? s[lo] : s[hi];
         }
-        return ClusteredStats.quantile(s, 0.5);
+        return ClusteredStats.quantile(s, q);
+    }
+
+    static double median(double[] v) {
+        return sizeQuantile(v, 0.5);
     }
 }

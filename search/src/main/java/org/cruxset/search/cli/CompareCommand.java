@@ -1,9 +1,10 @@
 package org.cruxset.search.cli;
 
+import static org.cruxset.search.StrategyTests.sizeQuantile;
+
 import java.io.PrintWriter;
 import java.nio.file.Path;
 import java.util.ArrayList;
-import java.util.Arrays;
 import java.util.LinkedHashMap;
 import java.util.List;
 import java.util.Locale;
@@ -132,8 +133,8 @@ public final class CompareCommand implements Callable<Integer> {
                                     + "chance %.3f. Critical means %s.", intact.accuracy(), intact.n(), intact.chance(),
                                     session.settings().criterion().describe());
                             hypervolumeNote = String.format(Locale.ROOT, "Hypervolume: of each run's front in (size / "
-                                    + "%d, search-part accuracy), both minimised, against the reference point (1, %.3f = "
-                                    + "intact accuracy); larger is better, at most %.3f.",
+                                    + "%d, search-part accuracy), both minimised, against the reference point "
+                                    + "(1, %.3f = intact accuracy); larger is better, at most %.3f.",
                                     session.inputs().batch().regions(), intact.accuracy(), intact.accuracy());
                         }
                         double[] first = {Double.NaN};
@@ -228,16 +229,19 @@ public final class CompareCommand implements Callable<Integer> {
             double[] best = os.stream().mapToDouble(o -> o.best() < 0 ? Double.POSITIVE_INFINITY : o.best()).toArray();
             long reached = minimum == null ? -1 : os.stream().filter(o -> o.best() == minimum).count();
             rows.add(new String[] {e.getKey(), Integer.toString(os.size()),
-                fmt(quantile(best, 0.5)) + " [" + fmt(quantile(best, 0.25)) + ", " + fmt(quantile(best, 0.75)) + "]",
+                fmt(sizeQuantile(best, 0.5)) + " [" + fmt(sizeQuantile(best, 0.25)) + ", "
+                    + fmt(sizeQuantile(best, 0.75)) + "]",
                 minimum == null ? "-" : reached + "/" + os.size(),
-                fmt(quantile(os.stream().mapToDouble(o -> Double.isNaN(o.firstCritical()) ? Double.POSITIVE_INFINITY
+                fmt(sizeQuantile(os.stream().mapToDouble(o -> Double.isNaN(o.firstCritical()) ? Double.POSITIVE_INFINITY
                         : o.firstCritical()).toArray(), 0.5)),
-                fmt(quantile(os.stream().mapToDouble(o -> o.best() < 0 ? Double.POSITIVE_INFINITY : o.toBest())
+                fmt(sizeQuantile(os.stream().mapToDouble(o -> o.best() < 0 ? Double.POSITIVE_INFINITY : o.toBest())
                         .toArray(), 0.5)),
-                String.format(Locale.ROOT, "%.4f", quantile(os.stream().mapToDouble(Outcome::hypervolume).toArray(), 0.5)),
-                fmt(quantile(os.stream().mapToDouble(Outcome::charged).toArray(), 0.5)),
-                String.format(Locale.ROOT, "%.1f", quantile(os.stream().mapToDouble(Outcome::seconds).toArray(), 0.5)),
-                String.format(Locale.ROOT, "%.1f", perSet * quantile(os.stream().mapToDouble(Outcome::charged)
+                String.format(Locale.ROOT, "%.4f", sizeQuantile(os.stream().mapToDouble(Outcome::hypervolume)
+                        .toArray(), 0.5)),
+                fmt(sizeQuantile(os.stream().mapToDouble(Outcome::charged).toArray(), 0.5)),
+                String.format(Locale.ROOT, "%.1f", sizeQuantile(os.stream().mapToDouble(Outcome::seconds).toArray(),
+                        0.5)),
+                String.format(Locale.ROOT, "%.1f", perSet * sizeQuantile(os.stream().mapToDouble(Outcome::charged)
                         .toArray(), 0.5)),
                 os.stream().mapToInt(Outcome::confirmed).sum() + "/" + os.stream().mapToInt(Outcome::reported).sum()
                         + " / " + os.stream().mapToInt(Outcome::certified).sum()});
@@ -296,19 +300,6 @@ public final class CompareCommand implements Callable<Integer> {
 
     private static String num(double v) {
         return Double.isNaN(v) ? "" : Double.toString(v);
-    }
-
-    private static double quantile(double[] v, double q) {
-        double[] s = v.clone();
-        Arrays.sort(s);
-        double h = (s.length - 1) * q;
-        int lo = (int) Math.floor(h);
-        int hi = Math.min(s.length - 1, lo + 1);
-        if (Double.isInfinite(s[lo]) || Double.isInfinite(s[hi])) {
-            // "none" (infinite) cannot be interpolated with a size: take the nearer order statistic.
-            return h - lo < 0.5 ? s[lo] : s[hi];
-        }
-        return org.cruxset.scoring.stats.ClusteredStats.quantile(s, q);
     }
 
     private static String fmt(double v) {
