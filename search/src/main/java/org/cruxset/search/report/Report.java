@@ -361,8 +361,8 @@ public final class Report {
                 maxCharged = Math.max(maxCharged, r.charged());
             }
             rows.add(new String[] {e.getKey(), runs.size() + " (" + seeds(runs) + ")",
-                size(ClusteredStats.quantile(best, 0.5)) + " [" + size(ClusteredStats.quantile(best, 0.25)) + ", "
-                    + size(ClusteredStats.quantile(best, 0.75)) + "]", String.format(Locale.ROOT, "%.0f",
+                size(StrategyTests.sizeQuantile(best, 0.5)) + " [" + size(StrategyTests.sizeQuantile(best, 0.25)) + ", "
+                    + size(StrategyTests.sizeQuantile(best, 0.75)) + "]", String.format(Locale.ROOT, "%.0f",
                     ClusteredStats.quantile(charged, 0.5)), confirmed + " / " + certified + " of " + reported});
         }
         table(rows);
