@@ -226,8 +226,8 @@ public final class Report {
         }
         table(rows);
         if (shown.size() < keys.size()) {
-            p((keys.size() - shown.size()) + " more reported critical set(s), of " + leftOutMin + (leftOutMax > leftOutMin
-                    ? " to " + leftOutMax : "") + " regions (found by " + esc(String.join(", ", leftOutBy)) + "), are "
+            p((keys.size() - shown.size()) + " more reported critical set(s), of " + leftOutMin
+                    + (leftOutMax > leftOutMin ? " to " + leftOutMax : "") + " regions (found by " + esc(String.join(", ", leftOutBy)) + "), are "
                     + "left out of this table, which shows the smallest size found and up to two regions more; "
                     + "<code>cruxset export</code> lists every one (search_results.tsv).");
         }
