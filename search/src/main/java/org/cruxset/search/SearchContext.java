@@ -2,6 +2,7 @@ package org.cruxset.search;
 
 import java.time.Instant;
 import java.util.ArrayList;
+import java.util.Collections;
 import java.util.HashMap;
 import java.util.List;
 import java.util.Map;
@@ -43,6 +44,7 @@ public final class SearchContext {
     private final Listener listener;
     private final Map<RegionSet, Long> certified = new HashMap<>();
     private final List<SearchRecords.TraceEntry> pendingTrace = new ArrayList<>();
+    private final List<EarlierScore> wholeScores = new ArrayList<>();
     private LesionScorer.Racing racing;
     private long decisions;
     private long racedDecisions;
@@ -333,6 +335,7 @@ public final class SearchContext {
         Map<Integer, LesionScorer.Scored> improved = new HashMap<>();
         int bestBefore = front.bestCriticalSize();
         for (LesionScorer.Scored s : scored) {
+            wholeScores.add(new EarlierScore(s.set(), s.score().correct(), s.score().meanTrueClassProbability()));
             boolean critical = s.set().size() > 0 && critical(s.score());
             if (front.offer(s.set(), s.score(), critical)) {
                 improved.put(s.set().size(), s);
@@ -437,7 +440,16 @@ public final class SearchContext {
     public record ExhaustiveProof(long runId, RegionSet pool, int maxSize) {
     }
 
-    /** An earlier run's score of a set on this run's search part. */
+    /**
+     * The search-part sets this run has scored whole so far (a resumed run's replay included), in the order scored,
+     * with their correct samples and mean true-class probability: e.g. the ranking and prefix a strategy scored before
+     * its own batches.
+     */
+    public List<EarlierScore> wholeScores() {
+        return Collections.unmodifiableList(wholeScores);
+    }
+
+    /** A score of a set on this run's search part (an earlier run's, or this run's own). */
     public record EarlierScore(RegionSet set, int correct, double meanTrueProbability) {
     }
 

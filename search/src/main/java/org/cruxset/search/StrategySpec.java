@@ -35,7 +35,10 @@ public record StrategySpec(String name, String base, boolean race, boolean scree
 
     /** A new strategy with the settings of {@code config} (single-lesion rankings where a ranking is used). */
     public Strategy create(SearchConfig config) {
-        SurrogateScreen s = screen ? new SurrogateScreen(config.screen()) : null;
+        // Local search descends through sets larger than the best critical set found so far (from other starts), so
+        // it needs their scores: only genetic search skips dominated candidates.
+        SurrogateScreen s = !screen ? null
+                : new SurrogateScreen(base.equals("local") ? config.screen().withDominated(false) : config.screen());
         return switch (base) {
             case "random" -> new RandomStrategy();
             case "grow", "grow+prune" -> new GrowStrategy(false, false);

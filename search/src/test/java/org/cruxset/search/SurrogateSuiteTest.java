@@ -35,6 +35,8 @@ class SurrogateSuiteTest {
             assertEquals(1, p.size());
             SearchSuite.Paired pr = p.get(0);
             assertEquals(SEEDS.size(), pr.setsToBaselineBest().length, "genetic found a critical set on every seed");
+            System.out.printf("%s: scored sets until genetic's best size, median %.1f vs genetic's %.1f (ratio %.2f)%n",
+                    s, pr.median(), pr.baselineMedian(), pr.median() / pr.baselineMedian());
             assertTrue(pr.median() <= 0.5 * pr.baselineMedian(), s + ": median " + pr.median() + " vs genetic's "
                     + pr.baselineMedian() + "\n" + log);
         }
@@ -42,6 +44,8 @@ class SurrogateSuiteTest {
         assertTrue(screened.skipped() > 0, "the screen skipped candidates");
         assertTrue(screened.spotChecked() >= 100, "enough spot checks to measure a rate: " + screened.spotChecked());
         double rate = (double) screened.falseSkips() / screened.spotChecked();
+        System.out.printf("genetic~screen: %d skipped, %d spot-checked, %d false skips (rate %.3f)%n",
+                screened.skipped(), screened.spotChecked(), screened.falseSkips(), rate);
         // Measured and reported (DEVELOPERS.md); a skip is made only when the lower 95% bound says "not critical".
         assertTrue(rate <= 0.05, "false-skip rate " + rate + " (" + screened.falseSkips() + " of "
                 + screened.spotChecked() + ")");

@@ -32,11 +32,10 @@ import org.junit.jupiter.api.io.TempDir;
  * The surrogate comparison on the demo (mvn -Plong): over 10 seeds, every run in a fresh store, with the command
  * line's defaults (racing on, budget 3,000 scored sets), the scored sets until {@code surrogate} and screened
  * {@code genetic} first reach plain genetic's best critical size (median, paired by seed; never reaching it counts as
- * infinite). {@code surrogate} must need at most half of plain genetic's. Screened genetic does not meet that here
- * (measured: ratio 0.99): plain genetic reaches the demo's minimum (4 regions) after about 300 scored sets, about 110
- * of them the single-lesion ranking and the critical prefix that all three share, so within its first two or three
- * generations, before the screen has the sets to fit on; the test holds it to "no worse than plain genetic by more
- * than 10%" and prints the ratio. Prints the per-seed figures.
+ * infinite). Each must need at most half of plain genetic's. Plain genetic reaches the demo's minimum (4 regions)
+ * after about 300 scored sets, 110 of them the single-lesion ranking and the critical prefix that all three share; the
+ * screen trains on those 110 from its first batch and skips candidates larger than a critical set already scored
+ * (under racing a critical set is always scored whole, so these are the dearest). Prints the per-seed figures.
  */
 @Tag("long")
 class SurrogateDemoLongTest {
@@ -97,8 +96,7 @@ class SurrogateDemoLongTest {
             System.out.printf("%s: scored sets until genetic's best size, median %.1f vs %.1f (ratio %.2f); per seed "
                     + "%s vs %s%n", s, median(toBest), median(base), median(toBest) / median(base),
                     Arrays.toString(toBest), Arrays.toString(base));
-            double allowed = s.equals("surrogate") ? 0.5 : 1.1;
-            assertTrue(median(toBest) <= allowed * median(base), s + ": median " + median(toBest) + " vs genetic's "
+            assertTrue(median(toBest) <= 0.5 * median(base), s + ": median " + median(toBest) + " vs genetic's "
                     + median(base));
         }
     }

@@ -132,7 +132,7 @@ public final class SearchSuite {
             SurrogateFits fits = SurrogateFits.of(chosen);
             SurrogateScreen used = chosen instanceof GeneticStrategy g ? g.screen()
                     : chosen instanceof LocalStrategy l ? l.screen() : null;
-            long[] screen = used != null ? used.counts() : new long[4];
+            long[] screen = used != null ? used.counts() : new long[5];
             return new Run(strategy, seed, budget, r.bestSize(), r.chargedAtBest(), trapped, proof, p.minimumSize(),
                     r.charged(), Math.round(r.charged() * n), seconds, decisions[0], decisions[1],
                     fits == null ? 0 : fits.fits(), fits == null ? 0 : fits.seconds(), screen[0], screen[1], screen[2],

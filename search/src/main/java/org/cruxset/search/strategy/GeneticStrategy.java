@@ -73,7 +73,7 @@ public final class GeneticStrategy implements Strategy {
 
         /** The defaults. */
         public static Settings defaults() {
-            return new Settings(100, 0.2, 1.0, 1.5, 48, 2000, 150, 0, "mixed", 48, 0.5, 1.5, 1.0);
+            return new Settings(100, 0.2, 1.0, 1.5, 48, 2000, 150, 3, "mixed", 48, 0.5, 1.5, 1.0);
         }
     }
 
@@ -151,6 +151,9 @@ public final class GeneticStrategy implements Strategy {
                 new SparseMutator(settings.additions(), settings.removals(), pool)).build();
         int generations = 0;
         for (int restart = 0; restart <= settings.restarts() && generations < settings.generations(); restart++) {
+            if (restart > 0 && screen != null) {
+                screen.restarted();
+            }
             ISeq<Phenotype<BitGene, Vec<double[]>>> first = initial(n, order, rng, restart, superset);
             int left = settings.generations() - generations;
             generations += RandomRegistry.with(rng.split(), r -> evolve(ctx, engine, first, left));

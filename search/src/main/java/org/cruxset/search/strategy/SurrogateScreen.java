@@ -14,23 +14,34 @@ import org.cruxset.surrogate.SurrogateModel;
 
 /**
  * Screening of a strategy's candidates by a surrogate of their graded distance from criticality ({@link Grading}: 0
- * exactly for critical sets): a candidate whose lower predictive bound, mean − z·sd, lies above half the smallest
- * non-critical grade seen and above the model's prediction of every critical set it was trained on is predicted with
- * high confidence not to be critical, and is not sent to the decoder. It
- * gets its predicted grade (never below that smallest non-critical grade, so it can never pass for critical), is
- * flagged in the skip log of the store, and can never be reported: only scored sets reach the front. A seeded share
- * {@code spotCheck} of the skips is scored anyway, and a check that finds a critical set is a false skip; the run's
- * notes give the false-skip rate with its exact (Clopper–Pearson) 95% interval.
+ * exactly for critical sets). Two kinds of candidate are not sent to the decoder:
+ * <ul>
+ * <li><em>not critical</em>: its lower predictive bound, mean − z·sd, lies above half the smallest non-critical grade
+ * seen and above the model's prediction of every critical set it was trained on. It gets its predicted grade (never
+ * below that smallest non-critical grade, so it can never pass for critical).</li>
+ * <li><em>dominated</em> (genetic search, unless {@code dominated} is off): it is larger than a critical set already
+ * scored, so whatever its score it cannot enter the front of size against distance from criticality, nor be a
+ * smallest critical set; after {@link #restarted()}, only if it also contains a critical set this run scored or its
+ * predicted grade is under half the smallest non-critical grade. It gets its predicted grade (never below 0), which
+ * keeps its place among the other dominated candidates of a population. Under racing a critical set is always scored
+ * whole, so these are a search's dearest candidates. Local search never skips them (see {@code StrategySpec}).</li>
+ * </ul>
+ * A skipped candidate is flagged in the skip log of the store with its reason, and can never be reported: only scored
+ * sets reach the front. A seeded share {@code spotCheck} of the not-critical skips is scored anyway; a check that finds
+ * a critical set is a false skip, and the run's notes give the false-skip rate with its exact (Clopper–Pearson) 95%
+ * interval. Dominated skips are not checked: a smaller critical set is known, so none of them can be a loss.
  *
- * <p>The model is fitted before every batch on the last {@code window} scored sets (none is skipped before
- * {@code warmup} sets were scored), over the regions whose lesion varies among them; a candidate that lesions a region
- * never lesioned there, or spares one always lesioned there, is outside what the model has seen and is always scored.
+ * <p>The model is fitted before every batch on the last {@code window} scored sets: the sets this run scored whole
+ * before its first batch (its ranking and prefix), then its screened batches, after the sets earlier runs left in the
+ * store when {@code warmStart} (none is skipped before {@code warmup} sets were seen), over the regions whose lesion
+ * varies among them; a candidate that lesions a region never lesioned there, or spares one always lesioned there, is
+ * outside what the model has seen and is always scored.
  * Deterministic given the scores: a resumed run refits, skips and checks the same sets.
  */
 public final class SurrogateScreen {
     /** Settings of a screen. */
     public record Settings(String model, double z, int warmup, int window, double spotCheck, int pairPool, int burnIn,
-                           int trees, boolean warmStart) {
+                           int trees, boolean warmStart, boolean dominated) {
         public Settings {
             if (!SurrogateFits.MODELS.contains(model)) {
                 throw new IllegalArgumentException("screen model must be one of " + SurrogateFits.MODELS + ", found '"
@@ -45,12 +56,17 @@ public final class SurrogateScreen {
 
         /** The defaults. */
         public static Settings defaults() {
-            return new Settings("additive", 2.0, 200, 1500, 0.05, 0, 100, 30, true);
+            return new Settings("additive", 2.0, 100, 1500, 0.05, 0, 100, 30, true, true);
+        }
+
+        /** These settings with dominated skips on or off. */
+        public Settings withDominated(boolean on) {
+            return new Settings(model, z, warmup, window, spotCheck, pairPool, burnIn, trees, warmStart, on);
         }
 
         String describe() {
-            return String.format(Locale.ROOT, "screen model=%s, z=%s, warmup=%d, window=%d, spotCheck=%s, warmStart=%s",
-                    model, z, warmup, window, spotCheck, warmStart);
+            return String.format(Locale.ROOT, "screen model=%s, z=%s, warmup=%d, window=%d, spotCheck=%s, warmStart=%s, "
+                    + "dominated=%s", model, z, warmup, window, spotCheck, warmStart, dominated);
         }
     }
 
@@ -63,9 +79,15 @@ public final class SurrogateScreen {
     private long skipped;
     private long checked;
     private long falseSkips;
+    private long dominatedSkips;
     private long unseen;
     private int position;
     private int warmed;
+    private int before;
+    /** The minimal ones among the critical sets this run scored whole, and how many whole scores were read. */
+    private final List<RegionSet> criticalSets = new ArrayList<>();
+    private int wholeRead;
+    private boolean restarted;
 
     /** A screen with {@code settings}. */
     public SurrogateScreen(Settings settings) {
@@ -92,6 +114,13 @@ public final class SurrogateScreen {
                         grades.add(grading.grade(ctx, e));
                         warmed++;
                     }
+                }
+            }
+            for (SearchContext.EarlierScore e : List.copyOf(ctx.wholeScores())) {
+                if (e.set().size() > 0) {
+                    seen.add(e.set());
+                    grades.add(grading.grade(ctx, e));
+                    before++;
                 }
             }
         }
@@ -160,8 +189,11 @@ public final class SurrogateScreen {
                 unseen++;
             }
         }
+        int bestCritical = settings.dominated() ? ctx.front().bestCriticalSize() : -1;
+        readCritical(ctx, grading);
         double[] mean = new double[batch.size()];
         double[] sd = new double[batch.size()];
+        boolean[] notCritical = new boolean[batch.size()];
         boolean[] skip = new boolean[batch.size()];
         boolean[] check = new boolean[batch.size()];
         if (!projected.isEmpty()) {
@@ -170,8 +202,10 @@ public final class SurrogateScreen {
                 int i = modelled.get(j);
                 mean[i] = p.mean()[j];
                 sd[i] = p.sd()[j];
-                skip[i] = mean[i] - settings.z() * sd[i] > threshold;
-                check[i] = skip[i] && rng.nextDouble() < settings.spotCheck();
+                notCritical[i] = mean[i] - settings.z() * sd[i] > threshold;
+                skip[i] = notCritical[i] || bestCritical > 0 && batch.get(i).size() > bestCritical
+                        && (!restarted || containsCritical(batch.get(i)) || mean[i] < floor / 2);
+                check[i] = notCritical[i] && rng.nextDouble() < settings.spotCheck();
             }
         }
         List<RegionSet> toScore = new ArrayList<>();
@@ -204,23 +238,64 @@ public final class SurrogateScreen {
                 continue;
             }
             skipped++;
-            if (check[i]) {
-                checked++;
-                falseSkips += critical[i] ? 1 : 0;
+            if (notCritical[i]) {
+                checked += check[i] ? 1 : 0;
+                falseSkips += check[i] && critical[i] ? 1 : 0;
             } else {
-                out[i] = Math.max(mean[i], floor);
+                dominatedSkips++;
+            }
+            if (!check[i]) {
+                out[i] = Math.max(mean[i], notCritical[i] ? floor : 0);
             }
             RegionSet s = batch.get(i);
+            String reason = notCritical[i] ? "not critical: lower bound above " + fmt(threshold)
+                    + " (half the smallest non-critical grade, and every critical set's prediction)"
+                    : "dominated: larger than a critical set of " + bestCritical + " regions already scored"
+                    + (!restarted ? "" : containsCritical(s) ? ", and contains a critical set already scored"
+                    : ", and predicted critical");
             log.add(new SearchRecords.Skip(position++, EvaluationKey.setHex(s), s.universe(), s.size(), mean[i], sd[i],
-                    mean[i] - settings.z() * sd[i], "not critical: lower bound above " + fmt(threshold)
-                    + " (half the smallest non-critical grade, and every critical set's prediction)",
-                    check[i], check[i] ? out[i] : null, check[i] ? critical[i] : null));
+                    mean[i] - settings.z() * sd[i], reason, check[i], check[i] ? out[i] : null,
+                    check[i] ? critical[i] : null));
         }
         ctx.recordSkips(log);
         if (!toScore.isEmpty()) {
             fits.quality(ctx, new SurrogateModel.Prediction(scoredMean, scoredSd), scoredGrades);
         }
         return out;
+    }
+
+    /**
+     * Marks a restart of the search (a fresh population after a stall, to escape a trap): from now on a candidate
+     * larger than the best critical set is skipped only when it contains a critical set this run scored or its
+     * predicted grade is under half the smallest non-critical grade, since the way out of a trap can lead through
+     * larger sets that are not critical.
+     */
+    public void restarted() {
+        restarted = true;
+    }
+
+    /** Adds this run's newly scored critical sets to the minimal ones. */
+    private void readCritical(SearchContext ctx, Grading grading) {
+        List<SearchContext.EarlierScore> whole = ctx.wholeScores();
+        for (; wholeRead < whole.size(); wholeRead++) {
+            SearchContext.EarlierScore e = whole.get(wholeRead);
+            if (e.set().size() == 0 || grading.grade(ctx, e) != 0 || containsCritical(e.set())
+                    || criticalSets.contains(e.set())) {
+                continue;
+            }
+            criticalSets.removeIf(c -> c.size() > e.set().size() && c.intersect(e.set()).size() == e.set().size());
+            criticalSets.add(e.set());
+        }
+    }
+
+    /** Whether {@code s} strictly contains a critical set this run scored. */
+    private boolean containsCritical(RegionSet s) {
+        for (RegionSet c : criticalSets) {
+            if (c.size() < s.size() && s.intersect(c).size() == c.size()) {
+                return true;
+            }
+        }
+        return false;
     }
 
     private void remember(List<RegionSet> sets, double[] g) {
@@ -273,10 +348,15 @@ public final class SurrogateScreen {
     /** Report lines: candidates, skips, spot checks and the false-skip rate, then the model's ledger. */
     public List<String> notes() {
         List<String> out = new ArrayList<>();
-        out.add(String.format(Locale.ROOT, "Screen (%s): %d candidates, %d skipped without a decoder call (%.1f%%), %d "
-                        + "always scored as outside what the model had seen; %d sets of earlier runs used as training data; %d skips spot-checked with the decoder, %d "
-                        + "of them critical (false skips): false-skip rate %s.", settings.describe(), candidates, skipped,
-                candidates == 0 ? 0.0 : 100.0 * skipped / candidates, unseen, warmed, checked, falseSkips,
+        out.add(String.format(Locale.ROOT, "Screen (%s): %d candidates, %d skipped without a decoder call (%.1f%%): %d "
+                        + "predicted not critical, %d dominated (larger than a critical set already scored); %d always "
+                        + "scored as outside what the model had seen. Training data besides the screened batches: %d sets "
+                        + "this run scored before them (its ranking and prefix), %d sets of earlier runs.",
+                settings.describe(), candidates, skipped, candidates == 0 ? 0.0 : 100.0 * skipped / candidates,
+                skipped - dominatedSkips, dominatedSkips, unseen, before, warmed));
+        out.add(String.format(Locale.ROOT, "Screen spot checks with the decoder: %d of the not-critical skips, %d of "
+                        + "them critical (false skips): false-skip rate %s. Dominated skips are not spot-checked: a "
+                        + "smaller critical set was already scored, so none can be a loss.", checked, falseSkips,
                 checked == 0 ? "not measured (no spot check)" : String.format(Locale.ROOT, "%.3f (95%% %.3f-%.3f, "
                         + "Clopper-Pearson)", (double) falseSkips / checked, clopperLow(falseSkips, checked),
                         clopperHigh(falseSkips, checked))));
@@ -293,9 +373,9 @@ public final class SurrogateScreen {
         return fits;
     }
 
-    /** Candidates, skips, spot checks, false skips. */
+    /** Candidates, skips (both kinds), spot checks (of not-critical skips), false skips, dominated skips. */
     public long[] counts() {
-        return new long[] {candidates, skipped, checked, falseSkips};
+        return new long[] {candidates, skipped, checked, falseSkips, dominatedSkips};
     }
 
     // Source: the Clopper-Pearson interval as Beta quantiles (common practice; Clopper & Pearson 1934).
