@@ -58,9 +58,12 @@ class ShapleyGamesTest {
     // given in M. Brodie, "Power Voting Systems Like the United Nations Security Council", Wolfram Demonstrations
     // Project); 4/2145 per elected member derived there by the same count, 84 × 6! × 8! / 15!, in the article
     // "Is it me, or is 'Veto' starting to sound really good" (Gonit Sora). 421/2145 for a permanent member is the
-    // remainder shared equally (efficiency). No textbook page could be consulted here; the textbook values are from
-    // memory. Checked analytically as well: an elected member is pivotal when all 5 permanent members and exactly 3 of
-    // the other 9 come before it, C(9,3) × 8! × 6! / 15!.
+    // remainder shared equally (efficiency). The same weighted game [39: 7×5, 1×10] is the textbook exercise in
+    // Aufmann, Lockwood, Nation & Clegg, Mathematical Excursions, 4th ed., Section 4.3, Exercise 30 (pointing to the
+    // Math Matters box on p. 210), seen only as a solution site's excerpt of the exercise, which asks for Banzhaf
+    // indices; no textbook page printing these two Shapley values could be consulted here. Checked analytically as
+    // well: an elected member is pivotal when all 5 permanent members and exactly 3 of the other 9 come before it,
+    // C(9,3) × 8! × 6! / 15!.
     @Test
     void theFifteenMemberSecurityCouncil() {
         Game g = game(15, s -> 7 * count(s, 0, 5) + count(s, 5, 15) >= 39 ? 1 : 0);
