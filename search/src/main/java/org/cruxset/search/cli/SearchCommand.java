@@ -124,10 +124,11 @@ public final class SearchCommand implements Callable<Integer> {
                     + "(0 to 1; unused with --no-prune). Default: ${DEFAULT-VALUE}.")
     double reserve;
 
-    @Option(names = "--screen", description = "genetic and local: skip the decoder for candidates a surrogate predicts, with "
-            + "high confidence, not to be critical (they get the predicted score, flagged, and are never reported); "
-            + "a seeded share of the skips is spot-checked with the decoder and the false-skip rate reported. "
-            + "Settings: the config's screen section.")
+    @Option(names = "--screen", description = "genetic and local: skip the decoder for candidates a surrogate "
+            + "predicts, with high confidence, not to be critical, and (genetic only) for dominated ones, larger than "
+            + "a critical set already scored; skipped candidates get the predicted score, flagged, and are never "
+            + "reported. A seeded share of the not-critical skips is spot-checked with the decoder and the false-skip "
+            + "rate reported. Settings: the config's screen section.")
     boolean screen;
 
     @Option(names = "--race", negatable = true, defaultValue = "true", fallbackValue = "true",
