@@ -190,7 +190,9 @@ public final class SurrogateScreen {
             }
         }
         int bestCritical = settings.dominated() ? ctx.front().bestCriticalSize() : -1;
-        readCritical(ctx, grading);
+        if (settings.dominated()) {
+            readCritical(ctx, grading);
+        }
         double[] mean = new double[batch.size()];
         double[] sd = new double[batch.size()];
         boolean[] notCritical = new boolean[batch.size()];
