@@ -18,6 +18,7 @@ import java.util.function.Supplier;
 import org.cruxset.scoring.eval.ScoringSession;
 import org.cruxset.search.bench.PlantedProblem;
 import org.cruxset.search.strategy.GeneticStrategy;
+import org.cruxset.search.strategy.LocalStrategy;
 import org.cruxset.search.strategy.SurrogateScreen;
 import org.cruxset.search.strategy.SurrogateStrategy;
 import org.junit.jupiter.api.Test;
@@ -155,14 +156,39 @@ class SurrogateTest {
                     "a reported set was never scored: " + r);
         }
         assertNotNull(t[0].fits());
+        // A dominated skip is larger than a critical set the run had scored, so larger than the smallest one found;
+        // it is never spot-checked (it cannot be a loss).
+        int smallest = t[0].front().stream().filter(f -> f.endsWith(":1")).mapToInt(f -> Integer.parseInt(
+                f.split(":")[0])).filter(k -> k > 0).min().orElseThrow();
+        List<String> dominated = storeRows(dir, "SELECT set_size || ':' || spot_checked FROM search_skips "
+                + "WHERE reason LIKE 'dominated:%'");
+        assertFalse(dominated.isEmpty(), "the screen skipped dominated candidates");
+        for (String d : dominated) {
+            assertTrue(Integer.parseInt(d.split(":")[0]) > smallest, "a dominated skip larger than " + smallest + ": "
+                    + d);
+            assertEquals("0", d.split(":")[1], "dominated skips are not spot-checked: " + d);
+        }
     }
 
-    static boolean scoredElsewhere(Path dir, String hex) {
+    @Test
+    void onlyGeneticTakesTheDominatedSkip() {
+        SearchConfig config = SearchConfig.defaults();
+        assertTrue(((GeneticStrategy) StrategySpec.parse("genetic~screen").create(config)).screen().describe()
+                .contains("dominated=true"));
+        assertTrue(((LocalStrategy) StrategySpec.parse("local~screen").create(config)).screen().describe()
+                .contains("dominated=false"), "local search needs the scores of sets larger than the best found");
+    }
+
+    static List<String> storeRows(Path dir, String sql) {
         try (Connection c = DriverManager.getConnection("jdbc:sqlite:" + dir.resolve("clean")
                 .resolve(ScoringSession.STORE_FILE))) {
-            return !rows(c, "SELECT id FROM evaluations WHERE set_hex = '" + hex + "'").isEmpty();
+            return rows(c, sql);
         } catch (SQLException e) {
             throw new IllegalStateException(e);
         }
+    }
+
+    static boolean scoredElsewhere(Path dir, String hex) {
+        return !storeRows(dir, "SELECT id FROM evaluations WHERE set_hex = '" + hex + "'").isEmpty();
     }
 }

@@ -126,6 +126,17 @@ public final class RegionSet implements Comparable<RegionSet> {
         return new RegionSet(universe, b);
     }
 
+    /** Whether every member of another set over the same universe is a member of this one. */
+    public boolean containsAll(RegionSet o) {
+        requireSameUniverse(o);
+        for (int i = 0; i < bits.length; i++) {
+            if ((o.bits[i] & ~bits[i]) != 0) {
+                return false;
+            }
+        }
+        return true;
+    }
+
     /** The positions in ascending order. */
     public int[] positions() {
         int[] out = new int[size];

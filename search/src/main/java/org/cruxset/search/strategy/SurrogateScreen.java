@@ -285,7 +285,7 @@ public final class SurrogateScreen {
                     || criticalSets.contains(e.set())) {
                 continue;
             }
-            criticalSets.removeIf(c -> c.size() > e.set().size() && c.intersect(e.set()).size() == e.set().size());
+            criticalSets.removeIf(c -> c.size() > e.set().size() && c.containsAll(e.set()));
             criticalSets.add(e.set());
         }
     }
@@ -293,7 +293,7 @@ public final class SurrogateScreen {
     /** Whether {@code s} strictly contains a critical set this run scored. */
     private boolean containsCritical(RegionSet s) {
         for (RegionSet c : criticalSets) {
-            if (c.size() < s.size() && s.intersect(c).size() == c.size()) {
+            if (c.size() < s.size() && s.containsAll(c)) {
                 return true;
             }
         }
